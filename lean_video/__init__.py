@@ -1,0 +1,15 @@
+"""lean_video: trunk lean, pelvic obliquity and hip load from a frontal walking video.
+
+Pipeline stages, data flowing one way::
+
+    video -> pose -> gait -> mechanics -> report      (store beside, cli on top)
+
+No stage imports a later one. The library logs through :mod:`logging`; only
+:mod:`lean_video.cli` prints.
+"""
+
+__version__ = "0.1.0"
+
+from lean_video.errors import LeanVideoError
+
+__all__ = ["LeanVideoError", "__version__"]

@@ -1,0 +1,360 @@
+"""Gait stage: from the keypoint table to events, single-support phases and angles.
+
+Conventions (stated once, tested in ``tests/test_gait.py``)
+----------------------------------------------------------
+* Image: upright-image pixels, x to the right, y down. Tracks are arrays of
+  shape ``(n_frames, 2)``; ``time_s`` has shape ``(n_frames,)`` and holds the
+  true (possibly irregular) timestamps.
+* ``camera_roll_deg``: positive when world-vertical lines appear turned
+  clockwise in the upright image. True "up" in image coordinates is then
+  ``u = (sin r, -cos r)`` and true "image-right horizontal" is
+  ``h = (cos r, sin r)``.
+* ``trunk_lean_deg``: angle between true vertical and the line hip midpoint ->
+  shoulder midpoint, positive when the shoulders lie toward the client's RIGHT.
+* ``pelvic_obliquity_deg``: angle of the line through both hips against true
+  horizontal, positive when the client's LEFT hip is lower.
+* Sides are the client's own. Facing the camera (walking toward it) the
+  client's right appears on the image left; from behind (walking away) on the
+  image right. Which way the client walks is decided from the growth or
+  shrinking of apparent body size, and the sides from image geometry, not from
+  the pose model's labels (see :mod:`lean_video.gait_events`).
+* Per single-support phase, lean is reported *toward the stance side* and
+  pelvic drop *of the swing side* (positive = swing-side hip lower, the
+  Trendelenburg direction).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import logging
+import math
+
+import numpy as np
+import pandas as pd
+from scipy import stats
+
+from lean_video.errors import LeanVideoError
+from lean_video.gait_clean import clean_track, finite_segments, keypoints_to_track
+from lean_video.gait_events import (
+    assign_client_sides, body_height_px, detect_contacts, foot_speeds,
+    refine_event_times, smooth_body_height, walking_direction,
+)
+
+log = logging.getLogger(__name__)
+
+SIDES = ("left", "right")
+
+
+@dataclasses.dataclass(frozen=True)
+class GaitResult:
+    """Result of :func:`analyse_keypoints`.
+
+    Attributes
+    ----------
+    frames : DataFrame
+        ``frame, time_s, trunk_lean_deg, pelvic_obliquity_deg, left_contact,
+        right_contact, valid`` (one row per input frame).
+    events : DataFrame
+        ``time_s, frame, side, event`` with event ``foot_strike`` or ``foot_off``.
+    strides : DataFrame
+        One row per kept single-support phase: ``stance_side, start_s, end_s,
+        duration_s, lean_mean_deg, lean_peak_deg, pelvic_drop_mean_deg,
+        pelvic_drop_peak_deg``.
+    summary : dict
+        JSON-able; see :func:`analyse_keypoints`.
+    """
+
+    frames: pd.DataFrame
+    events: pd.DataFrame
+    strides: pd.DataFrame
+    summary: dict
+
+
+def frame_angles(
+    track: dict[str, np.ndarray], *, direction: str, camera_roll_deg: float = 0.0
+) -> tuple[np.ndarray, np.ndarray]:
+    """Trunk lean and pelvic obliquity per frame, in degrees (conventions above).
+
+    Parameters
+    ----------
+    track : dict of ndarray (n, 2)
+        Client-side labelled positions (``left_shoulder``, ``right_hip``, ...).
+    direction : {"toward", "away"}
+        Toward the camera the client's right is image-left; away, image-right.
+    camera_roll_deg : float, keyword-only
+
+    Returns
+    -------
+    trunk_lean_deg, pelvic_obliquity_deg : ndarray, shape (n,)
+    """
+    r = math.radians(camera_roll_deg)
+    up = np.array([math.sin(r), -math.cos(r)])
+    horiz = np.array([math.cos(r), math.sin(r)])
+    right_sign = -1.0 if direction == "toward" else 1.0
+    hip_l, hip_r = track["left_hip"], track["right_hip"]
+    trunk = (track["left_shoulder"] + track["right_shoulder"]) / 2 - (hip_l + hip_r) / 2
+    lean = np.degrees(np.arctan2(trunk @ horiz * right_sign, trunk @ up))
+    drop_left = (hip_r - hip_l) @ up
+    width = np.abs((hip_l - hip_r) @ horiz)
+    obliquity = np.degrees(np.arctan2(drop_left, width))
+    return lean, obliquity
+
+
+def _ci95(x: np.ndarray):
+    """Mean, SD and two-sided 95 % t-interval (Student's t, scipy.stats.t)."""
+    n = len(x)
+    if n == 0:
+        return None, None, None
+    mean = float(np.mean(x))
+    if n < 2:
+        return mean, None, None
+    sd = float(np.std(x, ddof=1))
+    half = float(stats.t.ppf(0.975, n - 1) * sd / math.sqrt(n))
+    return mean, sd, [mean - half, mean + half]
+
+
+def _phases(intervals, time_s, lean, obliq, *, min_phase_s, max_phase_s,
+            max_missing_fraction, frame_s):
+    """Single-support phases from events: other foot's foot off -> its next foot strike.
+
+    The stance foot must be in contact over the whole phase (within one frame
+    interval ``frame_s``); phases cut by the clip/tracking edges, too short or
+    too long, or with too few frames with hips and shoulders are dropped with
+    a reason.
+    """
+    rows, drops = [], []
+    for stance, swing in (("left", "right"), ("right", "left")):
+        sw = sorted(intervals[swing], key=lambda iv: iv[0])
+        st = intervals[stance]
+        for k, (s_strike, s_off, i0, i1, s_seen, o_seen) in enumerate(sw):
+            nxt = sw[k + 1] if k + 1 < len(sw) else None
+            if not o_seen:
+                continue  # the swing foot never leaves the floor within tracking
+            if nxt is None or not nxt[4] or nxt[2] > i1 + 1 + int(round(max_phase_s / frame_s)):
+                drops.append({"stance_side": stance, "start_s": float(s_off),
+                              "reason": "partial phase: the swing foot's next foot strike is not seen (end of clip or lost tracking)"})
+                continue
+            start, end = s_off, nxt[0]
+            holder = [iv for iv in st if iv[0] <= start + frame_s and iv[1] >= end - frame_s]
+            if not holder:
+                drops.append({"stance_side": stance, "start_s": float(start),
+                              "reason": "stance foot not seen in contact for the whole phase"})
+                continue
+            dur = end - start
+            if not min_phase_s <= dur <= max_phase_s:
+                drops.append({"stance_side": stance, "start_s": float(start),
+                              "reason": f"duration {dur:.2f} s outside {min_phase_s}-{max_phase_s} s"})
+                continue
+            sel = (time_s >= start) & (time_s <= end)
+            if not sel.any():
+                sel = np.abs(time_s - (start + end) / 2) == np.min(np.abs(time_s - (start + end) / 2))
+            toward = lean[sel] * (1.0 if stance == "right" else -1.0)
+            drop = obliq[sel] * (1.0 if swing == "left" else -1.0)
+            missing = np.mean(~np.isfinite(toward) | ~np.isfinite(drop))
+            if missing > max_missing_fraction:
+                drops.append({"stance_side": stance, "start_s": float(start),
+                              "reason": f"{100 * missing:.0f} % of frames without shoulders/hips"})
+                continue
+            rows.append({
+                "stance_side": stance, "start_s": float(start), "end_s": float(end),
+                "duration_s": float(dur),
+                "lean_mean_deg": float(np.nanmean(toward)), "lean_peak_deg": float(np.nanmax(toward)),
+                "pelvic_drop_mean_deg": float(np.nanmean(drop)),
+                "pelvic_drop_peak_deg": float(np.nanmax(drop)),
+            })
+    cols = ["stance_side", "start_s", "end_s", "duration_s", "lean_mean_deg",
+            "lean_peak_deg", "pelvic_drop_mean_deg", "pelvic_drop_peak_deg"]
+    strides = pd.DataFrame(rows, columns=cols).sort_values("start_s").reset_index(drop=True)
+    return strides, drops
+
+
+def _side_summary(strides: pd.DataFrame, side: str) -> dict:
+    s = strides[strides["stance_side"] == side]
+    out = {"n_phases": int(len(s))}
+    for key, col in (("lean", "lean_mean_deg"), ("lean_peak", "lean_peak_deg"),
+                     ("pelvic_drop", "pelvic_drop_mean_deg"),
+                     ("pelvic_drop_peak", "pelvic_drop_peak_deg"),
+                     ("single_support", "duration_s")):
+        unit = "s" if key == "single_support" else "deg"
+        mean, sd, ci = _ci95(s[col].to_numpy(float))
+        out[f"{key}_mean_{unit}"] = mean
+        out[f"{key}_sd_{unit}"] = sd
+        out[f"{key}_ci95_{unit}"] = ci
+    return out
+
+
+def _cadence(events: pd.DataFrame) -> float | None:
+    """Steps per minute from the median interval between consecutive foot strikes."""
+    t = np.sort(events.loc[events["event"] == "foot_strike", "time_s"].to_numpy(float))
+    d = np.diff(t)
+    d = d[(d > 0.2) & (d < 2.0)]  # consecutive strikes of a continuous walk (common practice, no source)
+    return float(60.0 / np.median(d)) if d.size else None
+
+
+def analyse_keypoints(
+    keypoints: pd.DataFrame, *, width: int, height: int, camera_roll_deg: float = 0.0,
+    cutoff_hz: float = 6.0, min_visibility: float = 0.5, max_gap_s: float = 0.1,
+    event_cutoff_hz: float = 6.0, contact_on_fraction: float = 0.2,
+    contact_off_fraction: float = 0.3, min_phase_s: float = 0.15, max_phase_s: float = 1.0,
+    max_missing_fraction: float = 0.2, footprint_tolerance: float = 0.01,
+    contact_points: str = "centroid",
+) -> GaitResult:
+    """Find foot events, single-support phases, trunk lean and pelvic obliquity.
+
+    Parameters
+    ----------
+    keypoints : DataFrame
+        Long keypoint table from the pose stage (see DEVELOPERS.md).
+    width, height : int, keyword-only
+        Upright image size in pixels.
+    camera_roll_deg : float, keyword-only
+        See module docstring.
+    cutoff_hz : float, keyword-only
+        Low-pass cut-off for the angles (Winter 2009, ch. 3: 6 Hz for walking).
+    min_visibility, max_gap_s : float, keyword-only
+        Visibility gate and longest gap (missing time, s) that is interpolated.
+    event_cutoff_hz : float, keyword-only
+        Low-pass cut-off for the foot points used for contacts.
+    contact_on_fraction, contact_off_fraction : float, keyword-only
+        Hysteresis thresholds, fractions of the local swing speed.
+    min_phase_s, max_phase_s, max_missing_fraction : float, keyword-only
+        Quality gates for single-support phases.
+    footprint_tolerance : float, keyword-only
+        Smallest distance from its footprint, in body heights, at which a foot
+        point counts as arrived/departed when timing events (0 switches the
+        position-based timing off and keeps the speed-threshold crossings).
+    contact_points : {"centroid", "each"}, keyword-only
+        Detect contact on the mean of heel, ankle and foot index (less noisy),
+        or on each point with a foot-flat rule.
+
+    Returns
+    -------
+    GaitResult
+        ``summary`` holds ``direction``, ``camera_roll_deg``,
+        ``cadence_steps_per_min``, ``sides`` (``left``/``right``: ``n_phases``,
+        ``lean_mean_deg``, ``lean_sd_deg``, ``lean_ci95_deg``,
+        ``pelvic_drop_mean_deg``, ``single_support_mean_s`` ...),
+        ``asymmetry`` (left minus right), ``quality`` (``dropped_phases``,
+        ``n_label_swaps_repaired``, ``warnings``) and ``settings``. Missing
+        values are ``None`` and always come with a warning.
+
+    Raises
+    ------
+    LeanVideoError
+        On bad parameters, or if no single-support phase is found.
+    """
+    for name, value in (("width", width), ("height", height)):
+        if not isinstance(value, (int, np.integer)) or value <= 0:
+            raise LeanVideoError(f"{name} must be a positive integer number of pixels, got {value!r}; pass the upright image size from clip.json.")
+    if not -45.0 <= camera_roll_deg <= 45.0:
+        raise LeanVideoError(f"camera_roll_deg must lie within -45..45 degrees, got {camera_roll_deg}; level the phone or measure its roll.")
+    if contact_points not in ("centroid", "each"):
+        raise LeanVideoError(f"contact_points must be 'centroid' or 'each', got {contact_points!r}; use 'centroid'.")
+    if not 0 < contact_on_fraction <= contact_off_fraction < 1:
+        raise LeanVideoError(f"contact fractions must satisfy 0 < on <= off < 1, got {contact_on_fraction} and {contact_off_fraction}; use 0.2 and 0.3.")
+    settings = dict(
+        width=int(width), height=int(height), camera_roll_deg=float(camera_roll_deg),
+        cutoff_hz=float(cutoff_hz), min_visibility=float(min_visibility),
+        max_gap_s=float(max_gap_s), event_cutoff_hz=float(event_cutoff_hz),
+        contact_on_fraction=float(contact_on_fraction),
+        contact_off_fraction=float(contact_off_fraction), min_phase_s=float(min_phase_s),
+        max_phase_s=float(max_phase_s), max_missing_fraction=float(max_missing_fraction),
+        footprint_tolerance=float(footprint_tolerance), contact_points=contact_points,
+        filter="Butterworth order 2 per pass, sosfiltfilt (zero lag), per valid segment on a uniform grid",
+    )
+    frame, time_s, raw = keypoints_to_track(keypoints, min_visibility=min_visibility)
+    filtered, filled, n_swaps = clean_track(raw, time_s, max_gap_s=max_gap_s, cutoff_hz=cutoff_hz)
+    if event_cutoff_hz == cutoff_hz:
+        ev_track = filtered
+    else:
+        ev_track = clean_track(raw, time_s, max_gap_s=max_gap_s, cutoff_hz=event_cutoff_hz)[0]
+    direction, slope, warnings = walking_direction(filled, time_s)
+    (filtered, ev_track), n_relabel = assign_client_sides([filtered, ev_track], direction)
+
+    lean, obliq = frame_angles(filtered, direction=direction, camera_roll_deg=camera_roll_deg)
+    scale = smooth_body_height(body_height_px(filtered), time_s)
+    contact, intervals = {}, {}
+    for side in SIDES:
+        speeds = foot_speeds(ev_track, time_s, side, scale)
+        if contact_points == "centroid":
+            speeds = {"centroid": speeds["centroid"]}
+        else:
+            speeds.pop("centroid")
+        _, intervals[side] = detect_contacts(
+            speeds, time_s, on_fraction=contact_on_fraction, off_fraction=contact_off_fraction)
+        if footprint_tolerance > 0:
+            intervals[side], _ = refine_event_times(
+                ev_track, time_s, side, scale, intervals[side], floor_fraction=footprint_tolerance)
+        # per-frame contact between the (refined) foot strike and foot off
+        contact[side] = np.zeros(len(time_s), bool)
+        for t_strike, t_off, *_ in intervals[side]:
+            contact[side] |= (time_s >= t_strike - 1e-9) & (time_s <= t_off + 1e-9)
+
+    frame_s = float(np.median(np.diff(time_s)))
+    strides, drops = _phases(intervals, time_s, lean, obliq, min_phase_s=min_phase_s,
+                             max_phase_s=max_phase_s, max_missing_fraction=max_missing_fraction,
+                             frame_s=frame_s)
+    if strides.empty:
+        raise LeanVideoError(
+            "no single-support phase was found (nobody walking, or the person's feet or hips "
+            "out of frame); film again with the whole body in view, walking toward the camera "
+            "for at least six steps.")
+
+    ev_rows = []
+    for side in SIDES:
+        for t_strike, t_off, i0, i1, s_seen, o_seen in intervals[side]:
+            if s_seen:
+                ev_rows.append((t_strike, side, "foot_strike"))
+            if o_seen:
+                ev_rows.append((t_off, side, "foot_off"))
+    events = pd.DataFrame(ev_rows, columns=["time_s", "side", "event"]).sort_values("time_s")
+    nearest = [int(frame[np.argmin(np.abs(time_s - t))]) for t in events["time_s"]]
+    events.insert(1, "frame", np.array(nearest, dtype=int))
+    events = events.reset_index(drop=True)
+
+    frames = pd.DataFrame({
+        "frame": frame, "time_s": time_s, "trunk_lean_deg": lean,
+        "pelvic_obliquity_deg": obliq, "left_contact": contact["left"],
+        "right_contact": contact["right"],
+        "valid": np.isfinite(lean) & np.isfinite(obliq),
+    })
+
+    sides = {side: _side_summary(strides, side) for side in SIDES}
+    for side in SIDES:
+        n = sides[side]["n_phases"]
+        if n < 3:
+            warnings.append(f"only {n} usable {side} single-support phase(s); means are unreliable and SD/CI need at least 2 (film a longer walk)")
+    cadence = _cadence(events)
+    if cadence is None:
+        warnings.append("cadence could not be computed: fewer than two consecutive foot strikes")
+    asym = {}
+    for key in ("lean_mean_deg", "pelvic_drop_mean_deg", "single_support_mean_s"):
+        lv, rv = sides["left"][key], sides["right"][key]
+        asym[f"{key}_left_minus_right"] = None if lv is None or rv is None else lv - rv
+    ssl, ssr = sides["left"]["single_support_mean_s"], sides["right"]["single_support_mean_s"]
+    # Symmetry index, Robinson et al. 1987, J Manipulative Physiol Ther 10:172-176 (from memory).
+    asym["single_support_symmetry_index_pct"] = (
+        None if ssl is None or ssr is None else 100.0 * (ssl - ssr) / (0.5 * (ssl + ssr)))
+    if any(v is None for v in asym.values()):
+        warnings.append("left/right asymmetry is missing where a side has no usable phase")
+    summary = {
+        "direction": direction,
+        "camera_roll_deg": float(camera_roll_deg),
+        "cadence_steps_per_min": cadence,
+        "sides": sides,
+        "asymmetry": asym,
+        "quality": {
+            "n_frames": int(len(frame)),
+            "n_valid_frames": int(frames["valid"].sum()),
+            "n_label_swaps_repaired": int(n_swaps),
+            "n_side_relabellings": int(n_relabel),
+            "log_size_slope_per_s": None if not np.isfinite(slope) else float(slope),
+            "dropped_phases": drops,
+            "n_dropped_phases": len(drops),
+            "warnings": warnings,
+        },
+        "settings": settings,
+    }
+    for w in warnings:
+        log.warning(w)
+    return GaitResult(frames=frames, events=events, strides=strides, summary=summary)

@@ -1,0 +1,248 @@
+"""One analysis, end to end: keypoints -> gait -> mechanics -> files.
+
+This module only composes the stages (it holds no science of its own) so that
+the CLI, the demo and the benchmark run exactly the same steps. Output files
+are written to a temporary name and moved into place, so an interrupted run
+never leaves a truncated file behind.
+"""
+
+from __future__ import annotations
+
+import json
+import logging
+import math
+import os
+from dataclasses import asdict, dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from lean_video import __version__
+from lean_video.errors import LeanVideoError
+
+log = logging.getLogger(__name__)
+
+#: Files written by :func:`write_outputs`, in the order they are written.
+OUTPUT_FILES = ("frames.csv", "events.csv", "strides.csv", "summary.json")
+
+
+@dataclass(frozen=True)
+class AnalysisOptions:
+    """Every option of one analysis (all of it is stored as provenance).
+
+    Attributes
+    ----------
+    camera_roll_deg : float or None
+        Camera roll given by the user; None estimates it from the scene (video
+        input only) and falls back to 0 when the scene gives no reliable answer.
+    cutoff_hz : float
+        Low-pass cut-off for the angles (Winter 2009: 6 Hz for walking).
+    mass_kg, height_m : float or None
+        Body mass and height for the hip model; None uses the model defaults,
+        flagged in the output.
+    """
+
+    camera_roll_deg: float | None = None
+    cutoff_hz: float = 6.0
+    mass_kg: float | None = None
+    height_m: float | None = None
+    pose_max_side_px: int = 960
+    pose_workers: int = 0
+
+
+@dataclass(frozen=True)
+class Analysis:
+    """Everything one analysis produced, ready to be written, stored or reported."""
+
+    frames: pd.DataFrame
+    events: pd.DataFrame
+    strides: pd.DataFrame
+    summary: dict
+    keypoints: pd.DataFrame
+    video_path: Path | None
+    hip_curve: Any = None
+    extras: dict = field(default_factory=dict)
+
+
+def _load_keypoints(input_path: Path, options: AnalysisOptions, *, cache_dir, progress: bool):
+    """Keypoints and clip description from a video, or from a hand-over folder."""
+    from lean_video import pose
+
+    if input_path.is_dir():
+        table, clip = pose.read_handover(input_path)
+        return table, clip, None, {"source": "keypoints folder"}
+    settings = pose.PoseSettings(max_side_px=options.pose_max_side_px, workers=options.pose_workers)
+    run = pose.run_pose(input_path, settings=settings, cache_dir=cache_dir, progress=progress)
+    clip = {k: v for k, v in run.clip.to_dict().items() if k != "path"}
+    info = {"source": "video", "model": "BlazePose full (mediapipe 0.10.21)", "settings": asdict(settings),
+            "from_cache": run.from_cache, **run.stats}
+    return run.keypoints, clip, input_path, info
+
+
+def _json_ready(value: Any) -> Any:
+    """Turn numpy scalars and non-finite numbers into plain JSON values (NaN -> None)."""
+    if isinstance(value, dict):
+        return {str(k): _json_ready(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_json_ready(v) for v in value]
+    if isinstance(value, (np.integer,)):
+        return int(value)
+    if isinstance(value, (np.floating, float)):
+        f = float(value)
+        return f if math.isfinite(f) else None
+    if isinstance(value, np.bool_):
+        return bool(value)
+    if isinstance(value, Path):
+        return value.name
+    return value
+
+
+def analyse(
+    input_path: str | os.PathLike,
+    *,
+    options: AnalysisOptions = AnalysisOptions(),
+    cache_dir: str | os.PathLike | None = None,
+    progress: bool = False,
+) -> Analysis:
+    """Run pose (or read keypoints), gait and mechanics on one clip.
+
+    Parameters
+    ----------
+    input_path : path-like
+        A video, or a folder with ``keypoints.csv`` and ``clip.json``.
+    options : AnalysisOptions, keyword-only
+    cache_dir : path-like, optional, keyword-only
+        Keypoint cache folder.
+    progress : bool, keyword-only
+        Progress bar on stderr during pose estimation.
+
+    Returns
+    -------
+    Analysis
+    """
+    from lean_video import capture, gait, mechanics
+
+    path = Path(input_path)
+    if not path.exists():
+        raise LeanVideoError(f"Input not found: '{path}'; give a video file or a folder written by 'lean-video pose'.")
+    keypoints, clip, video, pose_info = _load_keypoints(path, options, cache_dir=cache_dir, progress=progress)
+    width, height = int(clip["width"]), int(clip["height"])
+
+    roll = capture.camera_roll(video, keypoints, user_roll_deg=options.camera_roll_deg)
+    result = gait.analyse_keypoints(keypoints, width=width, height=height, camera_roll_deg=roll.roll_deg,
+                                    cutoff_hz=options.cutoff_hz)
+    strides = mechanics.add_mechanics_columns(result.strides, mass_kg=options.mass_kg, height_m=options.height_m)
+    mech_info = dict(strides.attrs.get("mechanics", {}))
+    strides.attrs = {}
+    per_side = mechanics.summarise_mechanics(strides)
+    summary = dict(result.summary)
+    summary["sides"] = {side: {**summary["sides"].get(side, {}), **_mech_side(per_side.get(side, {}))}
+                        for side in ("left", "right")}
+    summary["camera_roll_deg"] = roll.roll_deg
+    summary["camera_roll_source"] = roll.source
+    summary["camera_roll_confidence"] = roll.confidence
+    summary["clip"] = clip
+    summary["pose"] = pose_info
+    summary["version"] = __version__
+    summary["settings"] = {**summary.get("settings", {}), "analysis": asdict(options)}
+    summary["mechanics"] = {**mech_info, "caution": mechanics.CAUTION}
+    quality = dict(summary.get("quality") or {})
+    quality["checks"] = capture.capture_checks(keypoints, clip, summary, roll=roll)
+    summary["quality"] = quality
+    params = mechanics.HipModelParams.from_body(height_m=options.height_m or mechanics.DEFAULT_HEIGHT_M)
+    curve = mechanics.lean_sweep(params=params, mass_kg=options.mass_kg)
+    return Analysis(result.frames, result.events, strides, _json_ready(summary), keypoints, video, curve)
+
+
+def _mech_side(side: dict) -> dict:
+    """Per-side hip-model medians, under the output names (gait's own keys are kept)."""
+    from lean_video.mechanics import NEWTON_NAMES, OUTPUT_NAMES
+
+    out = {name: side.get(name) for name in (*OUTPUT_NAMES, *NEWTON_NAMES) if name in side}
+    out["hip_model_statistic"] = "median over phases"
+    return out
+
+
+def _atomic_write(path: Path, text: str) -> None:
+    tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
+    try:
+        with open(tmp, "w", encoding="utf-8", newline="") as handle:
+            handle.write(text)
+            handle.flush()
+            os.fsync(handle.fileno())
+        os.replace(tmp, path)
+    finally:
+        if tmp.exists():
+            tmp.unlink()
+
+
+def check_out_dir(out_dir: Path, clip_sha256: str, *, force: bool) -> None:
+    """Refuse to overwrite another clip's results in ``out_dir`` unless forced."""
+    previous = out_dir / "summary.json"
+    if force or not previous.exists():
+        return
+    try:
+        old = json.loads(previous.read_text()).get("clip", {}).get("sha256")
+    except (OSError, ValueError):
+        old = None
+    if old != clip_sha256:
+        raise LeanVideoError(
+            f"The folder '{out_dir}' already holds the results of a different clip; choose another --out "
+            "folder, or add --force to replace them."
+        )
+
+
+def write_outputs(analysis: Analysis, out_dir: str | os.PathLike) -> list[Path]:
+    """Write ``frames.csv``, ``events.csv``, ``strides.csv`` and ``summary.json``.
+
+    Every file is written under a temporary name and moved into place.
+    """
+    out = Path(out_dir)
+    paths = []
+    tables = {"frames.csv": analysis.frames, "events.csv": analysis.events, "strides.csv": analysis.strides}
+    for name, table in tables.items():
+        _atomic_write(out / name, table.to_csv(index=False, float_format="%.4f"))
+        paths.append(out / name)
+    _atomic_write(out / "summary.json", json.dumps(analysis.summary, indent=2, allow_nan=False))
+    paths.append(out / "summary.json")
+    return paths
+
+
+def peak_pictures(analysis: Analysis) -> dict:
+    """For each side, the video frame at the largest lean toward that stance side.
+
+    Returns ``{side: {"rgb", "keypoints", "lean_deg", "time_s"}}`` for the
+    report; empty for keypoint-folder input (there is no picture).
+    """
+    from lean_video.video import iter_frames
+
+    if analysis.video_path is None or analysis.strides.empty:
+        return {}
+    frames = analysis.frames
+    wanted = {}
+    for side, sign in (("left", -1.0), ("right", 1.0)):
+        phases = analysis.strides[analysis.strides["stance_side"] == side]
+        if phases.empty or phases["lean_peak_deg"].isna().all():
+            continue
+        best = phases.loc[phases["lean_peak_deg"].idxmax()]
+        inside = frames[(frames["time_s"] >= best["start_s"]) & (frames["time_s"] <= best["end_s"])]
+        toward = sign * inside["trunk_lean_deg"]
+        if toward.notna().any():
+            row = inside.loc[toward.idxmax()]
+            wanted[int(row["frame"])] = (side, float(sign * row["trunk_lean_deg"]), float(row["time_s"]))
+    if not wanted:
+        return {}
+    kp = analysis.keypoints
+    out = {}
+    last = max(wanted)
+    for index, _, rgb in iter_frames(analysis.video_path):
+        if index in wanted:
+            side, lean, t = wanted[index]
+            rows = kp[kp["frame"] == index]
+            points = {r.landmark: (float(r.x_px), float(r.y_px)) for r in rows.itertuples() if np.isfinite(r.x_px)}
+            out[side] = {"rgb": rgb, "keypoints": points, "lean_deg": lean, "time_s": t}
+        if index >= last:
+            break
+    return out

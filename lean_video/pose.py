@@ -1,0 +1,558 @@
+"""Pose keypoints from a clip with MediaPipe BlazePose (full model, offline).
+
+The keypoint table
+------------------
+One tidy ``pandas.DataFrame``, one row per frame and landmark::
+
+    frame:int  time_s:float  landmark:str  x_px  y_px  z  visibility  presence
+
+* ``landmark`` is one of the 33 BlazePose names (:data:`LANDMARK_NAMES`); left
+  and right are the person's own, as the model labels them.
+* ``x_px`` grows to the right and ``y_px`` downward, in pixels of the upright
+  picture at the clip's full resolution. ``z`` is the model's relative depth
+  (same scale as x, smaller is nearer the camera).
+* A frame where nobody was found keeps its 33 rows with NaN values: frames are
+  never dropped, so gaps stay visible to the later stages.
+
+Method: BlazePose (Bazarevsky et al. 2020, "BlazePose: On-device Real-time
+Body Pose tracking", arXiv:2006.10204) as bundled in ``mediapipe==0.10.21``,
+``model_complexity=1`` (the "full" landmark model). The model's own landmark
+smoothing is switched off because it assumes a constant 30 fps; the gait stage
+filters with the clip's true timestamps instead.
+
+Small, far figures: the full-frame person detector misses a client who fills
+only a fifth of the picture height at the far end of a corridor. When the
+tracker finds nobody, the region around the person's last box is cut from the
+full-resolution frame, enlarged and given to a still-image instance of the
+model; when nobody has been seen yet (the clip starts with a far figure), the
+frame is searched in overlapping windows. Landmarks are mapped back to
+full-frame pixels.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import logging
+import os
+from dataclasses import asdict, dataclass, field
+from pathlib import Path
+
+import cv2
+import numpy as np
+import pandas as pd
+
+from lean_video.errors import LeanVideoError
+from lean_video.video import ClipInfo, iter_bgr, probe_clip, to_rgb
+
+log = logging.getLogger(__name__)
+
+#: The 33 BlazePose landmark names, in the model's index order.
+LANDMARK_NAMES: tuple[str, ...] = (
+    "nose", "left_eye_inner", "left_eye", "left_eye_outer", "right_eye_inner",
+    "right_eye", "right_eye_outer", "left_ear", "right_ear", "mouth_left",
+    "mouth_right", "left_shoulder", "right_shoulder", "left_elbow", "right_elbow",
+    "left_wrist", "right_wrist", "left_pinky", "right_pinky", "left_index",
+    "right_index", "left_thumb", "right_thumb", "left_hip", "right_hip",
+    "left_knee", "right_knee", "left_ankle", "right_ankle", "left_heel",
+    "right_heel", "left_foot_index", "right_foot_index",
+)
+N_LANDMARKS = len(LANDMARK_NAMES)
+COLUMNS = ("frame", "time_s", "landmark", "x_px", "y_px", "z", "visibility", "presence")
+_CACHE_FORMAT = 1
+
+
+@dataclass(frozen=True)
+class PoseSettings:
+    """Every setting that changes the keypoints (part of the cache key).
+
+    Attributes
+    ----------
+    model_complexity : int
+        BlazePose landmark model: 1 = full (the default and the only one
+        bundled for offline use in mediapipe 0.10.21 besides lite).
+    min_detection_confidence, min_tracking_confidence : float
+        MediaPipe's own thresholds (its documented defaults, 0.5).
+    max_side_px : int
+        Frames are scaled down so their longer side is at most this before the
+        tracking pass; the landmark model works on a 256 px crop of the person,
+        so larger frames only cost decoding time.
+    recover_far : bool
+        Revisit frames where nobody was found with enlarged crops.
+    crop_margin : float
+        Crop side as a multiple of the predicted person height.
+    crop_side_px : int
+        The crop is resized to this square size before the model sees it.
+    recover_window_s : float
+        A lost person is looked for around their last box for this long.
+    search_interval_s : float
+        While nobody has been found, search the whole frame window by window
+        this often.
+    workers : int
+        Processes tracking separate parts of the clip (0: one per core, at
+        most two). Tracking restarts in each part, so parts overlap by
+        ``overlap_s`` to let it settle; only the workers' own frames are kept.
+    min_split_duration_s : float
+        Clips shorter than this run in one process: starting a second one
+        (about 2 s to load the model) costs more than it saves.
+    """
+
+    model_complexity: int = 1
+    min_detection_confidence: float = 0.5
+    min_tracking_confidence: float = 0.5
+    max_side_px: int = 960
+    recover_far: bool = True
+    crop_margin: float = 1.6
+    crop_side_px: int = 384
+    recover_window_s: float = 0.5
+    search_interval_s: float = 1.0
+    workers: int = 0
+    overlap_s: float = 1.0
+    min_split_duration_s: float = 10.0
+
+    def key(self) -> str:
+        """Short stable hash of the settings that change results, and the model version."""
+        from importlib.metadata import version
+
+        fields = {k: v for k, v in asdict(self).items() if k not in ("workers", "min_split_duration_s")}
+        text = json.dumps({**fields, "mediapipe": version("mediapipe"), "fmt": _CACHE_FORMAT}, sort_keys=True)
+        return hashlib.sha256(text.encode()).hexdigest()[:16]
+
+
+@dataclass(frozen=True)
+class PoseRun:
+    """Result of pose estimation on one clip.
+
+    Attributes
+    ----------
+    keypoints : pandas.DataFrame
+        The keypoint table (see module docstring).
+    clip : ClipInfo
+        The clip description.
+    settings : PoseSettings
+    n_frames : int
+        Frames decoded.
+    n_detected : int
+        Frames with a person after all passes.
+    n_recovered : int
+        Of those, frames found only by the enlarged-crop pass.
+    from_cache : bool
+    """
+
+    keypoints: pd.DataFrame
+    clip: ClipInfo
+    settings: PoseSettings
+    n_frames: int
+    n_detected: int
+    n_recovered: int
+    from_cache: bool = False
+    stats: dict = field(default_factory=dict)
+
+
+def default_cache_dir() -> Path:
+    """Per-user cache folder (``$LEAN_VIDEO_CACHE_DIR`` or the XDG cache home)."""
+    env = os.environ.get("LEAN_VIDEO_CACHE_DIR")
+    if env:
+        return Path(env)
+    base = os.environ.get("XDG_CACHE_HOME") or str(Path.home() / ".cache")
+    return Path(base) / "lean_video"
+
+
+def _new_model(settings: PoseSettings, *, static: bool):
+    import mediapipe as mp
+
+    return mp.solutions.pose.Pose(
+        static_image_mode=static,
+        model_complexity=settings.model_complexity,
+        smooth_landmarks=False,
+        enable_segmentation=False,
+        min_detection_confidence=settings.min_detection_confidence,
+        min_tracking_confidence=settings.min_tracking_confidence,
+    )
+
+
+def _landmarks_array(result, *, x0: float, y0: float, sx: float, sy: float) -> np.ndarray | None:
+    """(33, 5) array x_px, y_px, z, visibility, presence, or None if nobody."""
+    if result.pose_landmarks is None:
+        return None
+    raw = np.array([(lm.x, lm.y, lm.z, lm.visibility, lm.presence) for lm in result.pose_landmarks.landmark])
+    raw[:, 0] = x0 + raw[:, 0] * sx
+    raw[:, 1] = y0 + raw[:, 1] * sy
+    raw[:, 2] *= sx
+    return raw
+
+
+def _person_box(lm: np.ndarray) -> tuple[float, float, float]:
+    """Centre x, centre y and height (px) of the landmarks' bounding box."""
+    good = lm[:, 3] > 0.3
+    pts = lm[good, :2] if good.sum() >= 8 else lm[:, :2]
+    x_min, y_min = pts.min(axis=0)
+    x_max, y_max = pts.max(axis=0)
+    # The landmarks stop at the eyes; the head top lies about one face height above.
+    height = (y_max - y_min) * 1.12
+    return (x_min + x_max) / 2.0, (y_min + y_max) / 2.0 - 0.03 * height, max(height, x_max - x_min)
+
+
+def _run_crop(model, bgr: np.ndarray, box: tuple[float, float, float], settings: PoseSettings) -> np.ndarray | None:
+    """Run the still-image model on an enlarged square crop around ``box`` (cx, cy, height)."""
+    cx, cy, h = box
+    side = max(h * settings.crop_margin, 96.0)
+    x0, y0 = cx - side / 2.0, cy - side / 2.0
+    # One affine warp crops, scales and pads outside the frame.
+    scale = settings.crop_side_px / side
+    m = np.array([[scale, 0.0, -x0 * scale], [0.0, scale, -y0 * scale]])
+    crop = cv2.warpAffine(bgr, m, (settings.crop_side_px, settings.crop_side_px), flags=cv2.INTER_AREA,
+                          borderMode=cv2.BORDER_CONSTANT, borderValue=(0, 0, 0))
+    result = model.process(cv2.cvtColor(crop, cv2.COLOR_BGR2RGB))
+    return _landmarks_array(result, x0=x0, y0=y0, sx=side, sy=side)
+
+
+def _tile_boxes(width: int, height: int) -> list[tuple[float, float, float]]:
+    """Overlapping square windows at two scales, as (cx, cy, side), to find a person from nothing."""
+    boxes = []
+    short = min(width, height)
+    for side in (short, short / 2.0):
+        # Centres from edge to edge, about half a window apart, so the last
+        # window touches the far edge too.
+        centres = [np.linspace(side / 2.0, dim - side / 2.0, max(1, int(np.ceil((dim - side) / (side / 2.0))) + 1))
+                   for dim in (width, height)]
+        for y in centres[1]:
+            for x in centres[0]:
+                boxes.append((float(x), float(y), float(side)))
+    return boxes
+
+
+def _tile_search(model, bgr: np.ndarray, settings: PoseSettings) -> np.ndarray | None:
+    """Search a frame window by window; the most confident person wins."""
+    height, width = bgr.shape[:2]
+    best, best_vis = None, 0.5
+    for cx, cy, side in _tile_boxes(width, height):
+        lm = _run_crop(model, bgr, (cx, cy, side / settings.crop_margin), settings)
+        if lm is not None:
+            vis = float(np.mean(lm[[11, 12, 23, 24, 27, 28], 3]))
+            if vis > best_vis:
+                best, best_vis = lm, vis
+                if vis > 0.9:
+                    break
+    return best
+
+
+class _Prefetch:
+    """Decode the next frames in a thread while the model works on this one.
+
+    OpenCV's decoder and MediaPipe's graph both release the GIL, so the two
+    overlap on separate cores.
+    """
+
+    _END = object()
+
+    def __init__(self, iterator, depth: int = 4) -> None:
+        import queue
+        import threading
+
+        self._queue: queue.Queue = queue.Queue(maxsize=depth)
+        self._iterator = iterator
+        self._error: BaseException | None = None
+        self._stop = threading.Event()
+        self._thread = threading.Thread(target=self._run, daemon=True)
+        self._thread.start()
+
+    def _run(self) -> None:
+        try:
+            for item in self._iterator:
+                if self._stop.is_set():
+                    break
+                self._queue.put(item)
+        except BaseException as exc:  # noqa: BLE001 - handed to the consumer
+            self._error = exc
+        finally:
+            self._queue.put(self._END)
+
+    def __iter__(self):
+        while True:
+            item = self._queue.get()
+            if item is self._END:
+                if self._error is not None:
+                    raise self._error
+                return
+            yield item
+
+    def close(self) -> None:
+        self._stop.set()
+        while self._thread.is_alive():
+            try:
+                self._queue.get(timeout=0.1)
+            except Exception:  # noqa: BLE001 - queue.Empty; just retry
+                pass
+
+
+_COUNTER = None
+
+
+def _init_worker(counter) -> None:
+    global _COUNTER
+    _COUNTER = counter
+
+
+def _track_range(path: str, settings: PoseSettings, seek_s: float | None, stop_s: float | None,
+                 width: int, height: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Track the person from ``seek_s`` up to (not including) ``stop_s``.
+
+    Returns times (n,), landmarks (n, 33, 5) with NaN where nobody was found,
+    and a flag (n,) for frames found only by the enlarged-crop search.
+    """
+    tracker = _new_model(settings, static=False)
+    still = None
+    times, data, recovered = [], [], []
+    last_box, last_t, last_search_t = None, -np.inf, -np.inf
+    frames = _Prefetch(iter_bgr(path, seek_s=seek_s))
+    try:
+        for _, time_s, bgr in frames:
+            if stop_s is not None and time_s >= stop_s:
+                break
+            small = to_rgb(bgr, max_side_px=settings.max_side_px)
+            lm = _landmarks_array(tracker.process(small), x0=0.0, y0=0.0, sx=width, sy=height)
+            found_by_crop = False
+            if lm is None and settings.recover_far:
+                still = still or _new_model(settings, static=True)
+                if last_box is not None and time_s - last_t <= settings.recover_window_s:
+                    lm = _run_crop(still, bgr, last_box, settings)
+                elif time_s - last_search_t >= settings.search_interval_s:
+                    last_search_t = time_s
+                    lm = _tile_search(still, bgr, settings)
+                found_by_crop = lm is not None
+            if lm is not None:
+                last_box, last_t = _person_box(lm), time_s
+            times.append(time_s)
+            data.append(lm if lm is not None else np.full((N_LANDMARKS, 5), np.nan))
+            recovered.append(found_by_crop)
+            if _COUNTER is not None:
+                with _COUNTER.get_lock():
+                    _COUNTER.value += 1
+    finally:
+        frames.close()
+        tracker.close()
+        if still is not None:
+            still.close()
+    if not times:
+        return np.empty(0), np.empty((0, N_LANDMARKS, 5)), np.empty(0, dtype=bool)
+    return np.asarray(times), np.stack(data), np.asarray(recovered, dtype=bool)
+
+
+def _progress(total: int, enabled: bool, desc: str):
+    from tqdm import tqdm
+
+    return tqdm(total=total, desc=desc, unit="frame", disable=not enabled, leave=False)
+
+
+def _split_points(info: ClipInfo, workers: int, overlap_s: float, min_duration_s: float) -> list[float]:
+    """Start times of the worker ranges after the first (empty list: one range)."""
+    if workers < 2 or info.duration_s < max(min_duration_s, 4.0 * overlap_s):
+        return []
+    return [info.duration_s * k / workers for k in range(1, workers)]
+
+
+def _track_clip(path, info: ClipInfo, settings: PoseSettings, progress: bool):
+    """Run :func:`_track_range` over the clip, split across processes when worthwhile."""
+    import concurrent.futures as cf
+    import multiprocessing as mproc
+    import time
+
+    workers = settings.workers or min(2, os.cpu_count() or 1)
+    splits = _split_points(info, workers, settings.overlap_s, settings.min_split_duration_s)
+    if not splits:
+        with _progress(info.frame_count, progress, "pose") as bar:
+            result = _track_range(str(path), settings, None, None, info.width, info.height)
+            bar.update(len(result[0]))
+        return result
+    ctx = mproc.get_context("spawn")
+    counter = ctx.Value("i", 0)
+    bounds = [None, *splits]
+    stops = [*splits, None]
+    total = info.frame_count + round(len(splits) * settings.overlap_s * info.fps)
+    with cf.ProcessPoolExecutor(max_workers=len(bounds), mp_context=ctx, initializer=_init_worker,
+                                initargs=(counter,)) as pool, _progress(total, progress, "pose") as bar:
+        futures = [pool.submit(_track_range, str(path), settings,
+                               None if b is None else max(b - settings.overlap_s, 0.0), s, info.width, info.height)
+                   for b, s in zip(bounds, stops)]
+        while not all(f.done() for f in futures):
+            time.sleep(0.2)
+            bar.n = min(counter.value, total)
+            bar.refresh()
+        parts = [f.result() for f in futures]
+    times, data, rec = parts[0]
+    for start, (t, d, r) in zip(splits, parts[1:]):
+        if len(t) == 0 or t[0] > start or (len(times) and times[-1] >= start):
+            # The seek overshot: this range cannot be joined exactly, so redo it in order.
+            log.debug("seek near %.2f s landed at %s; tracking that range sequentially", start, t[:1])
+            return _track_range(str(path), settings, None, None, info.width, info.height)
+        keep = t >= start
+        times, data, rec = np.concatenate([times, t[keep]]), np.concatenate([data, d[keep]]), np.concatenate([rec, r[keep]])
+    return times, data, rec
+
+
+def _to_table(times: np.ndarray, data: np.ndarray) -> pd.DataFrame:
+    """Long keypoint table from times (n,) and landmarks (n, 33, 5)."""
+    n = len(times)
+    flat = data.reshape(n * N_LANDMARKS, 5)
+    return pd.DataFrame({
+        "frame": np.repeat(np.arange(n, dtype=np.int64), N_LANDMARKS),
+        "time_s": np.repeat(times, N_LANDMARKS),
+        "landmark": np.tile(np.array(LANDMARK_NAMES, dtype=object), n),
+        "x_px": flat[:, 0], "y_px": flat[:, 1], "z": flat[:, 2],
+        "visibility": flat[:, 3], "presence": flat[:, 4],
+    })
+
+
+def _cache_paths(cache_dir: Path, sha: str, key: str) -> tuple[Path, Path]:
+    stem = cache_dir / f"{sha[:24]}-{key}"
+    return stem.with_suffix(".npz"), stem.with_suffix(".json")
+
+
+def _load_cache(cache_dir: Path, info: ClipInfo, settings: PoseSettings) -> PoseRun | None:
+    npz, meta = _cache_paths(cache_dir, info.sha256, settings.key())
+    if not (npz.exists() and meta.exists()):
+        return None
+    try:
+        with np.load(npz) as f:
+            times, data = f["time_s"], f["data"]
+        stats = json.loads(meta.read_text())
+    except (OSError, ValueError, KeyError) as exc:
+        log.warning("ignoring unreadable keypoint cache %s: %s", npz.name, exc)
+        return None
+    table = _to_table(times, data)
+    return PoseRun(table, info, settings, stats["n_frames"], stats["n_detected"], stats["n_recovered"], True, stats)
+
+
+def _save_cache(cache_dir: Path, info: ClipInfo, settings: PoseSettings, times, data, stats: dict) -> None:
+    try:
+        cache_dir.mkdir(parents=True, exist_ok=True)
+        npz, meta = _cache_paths(cache_dir, info.sha256, settings.key())
+        tmp = npz.with_name(npz.stem + f".{os.getpid()}.tmp.npz")
+        np.savez_compressed(tmp, time_s=times, data=data)
+        os.replace(tmp, npz)
+        tmp_meta = meta.with_name(meta.name + f".{os.getpid()}.tmp")
+        tmp_meta.write_text(json.dumps(stats))
+        os.replace(tmp_meta, meta)
+    except OSError as exc:
+        # A cache is an optimisation: failing to write one must not fail the run.
+        log.warning("could not write keypoint cache in %s: %s", cache_dir, exc)
+
+
+def run_pose(
+    path: str | os.PathLike,
+    *,
+    settings: PoseSettings = PoseSettings(),
+    cache_dir: str | os.PathLike | None = None,
+    use_cache: bool = True,
+    progress: bool = False,
+) -> PoseRun:
+    """Estimate pose keypoints on every frame of a clip.
+
+    Parameters
+    ----------
+    path : path-like
+        The video.
+    settings : PoseSettings, keyword-only
+    cache_dir : path-like, optional, keyword-only
+        Where keypoint tables are cached (default :func:`default_cache_dir`).
+    use_cache : bool, keyword-only
+        Read and write the cache (default True).
+    progress : bool, keyword-only
+        Show a progress bar on stderr.
+
+    Returns
+    -------
+    PoseRun
+
+    Raises
+    ------
+    LeanVideoError
+        If the clip is unusable or nobody is found in it.
+    """
+    info = probe_clip(path)
+    cache = Path(cache_dir) if cache_dir is not None else default_cache_dir()
+    if use_cache:
+        cached = _load_cache(cache, info, settings)
+        if cached is not None:
+            log.info("keypoints read from cache (%d frames)", cached.n_frames)
+            return cached
+    times, data, recovered_flags = _track_clip(path, info, settings, progress)
+    if len(times) == 0:
+        raise LeanVideoError(f"No frame of '{Path(path).name}' could be decoded; export the clip again from the phone.")
+    found = ~np.isnan(data[:, 0, 0])
+    n_detected = int(found.sum())
+    recovered = int(recovered_flags.sum())
+    lost = max(info.frame_count - len(times), 0)
+    if lost > max(2, 0.02 * info.frame_count):
+        log.warning("only %d of %d declared frames could be decoded (%d lost): the file may be truncated",
+                    len(times), info.frame_count, lost)
+    if n_detected == 0:
+        raise LeanVideoError(
+            f"Nobody was found in '{Path(path).name}'; film the client's whole body, head to feet, "
+            "walking toward the camera in good light."
+        )
+    stats = {"n_frames": int(len(times)), "n_detected": n_detected, "n_recovered": recovered, "frames_lost": int(lost)}
+    log.info("pose: %d frames, person in %d (%d found by enlarged crops)", len(times), n_detected, recovered)
+    if use_cache:
+        _save_cache(cache, info, settings, times, data, stats)
+    return PoseRun(_to_table(times, data), info, settings, int(len(times)), n_detected, recovered, False, stats)
+
+
+def estimate_pose(path: str | os.PathLike, **kwargs) -> pd.DataFrame:
+    """Keypoint table of a clip: ``run_pose(path, **kwargs).keypoints``."""
+    return run_pose(path, **kwargs).keypoints
+
+
+def write_handover(run: PoseRun, out_dir: str | os.PathLike) -> tuple[Path, Path]:
+    """Write ``keypoints.csv`` and ``clip.json``, the documented hand-over pair."""
+    out = Path(out_dir)
+    clip = {k: v for k, v in run.clip.to_dict().items() if k != "path"}
+    clip["pose"] = {"settings": asdict(run.settings), **run.stats}
+    kp_path, clip_path = out / "keypoints.csv", out / "clip.json"
+    _atomic_write_text(kp_path, run.keypoints.to_csv(index=False, float_format="%.4f"))
+    _atomic_write_text(clip_path, json.dumps(clip, indent=2))
+    return kp_path, clip_path
+
+
+def read_handover(folder: str | os.PathLike) -> tuple[pd.DataFrame, dict]:
+    """Read a ``keypoints.csv`` + ``clip.json`` pair and check its columns.
+
+    Raises
+    ------
+    LeanVideoError
+        Missing files, missing columns, unknown landmark names or bad sizes.
+    """
+    folder = Path(folder)
+    kp_path, clip_path = folder / "keypoints.csv", folder / "clip.json"
+    for p in (kp_path, clip_path):
+        if not p.is_file():
+            raise LeanVideoError(f"'{folder.name}' has no {p.name}; a keypoint folder needs keypoints.csv and clip.json "
+                                 "as written by 'lean-video pose'.")
+    try:
+        clip = json.loads(clip_path.read_text())
+        table = pd.read_csv(kp_path)
+    except (ValueError, OSError) as exc:
+        raise LeanVideoError(f"Could not read the keypoint folder '{folder.name}': {exc}; write it again with "
+                             "'lean-video pose'.") from None
+    missing = [c for c in COLUMNS if c not in table.columns]
+    if missing:
+        raise LeanVideoError(f"keypoints.csv lacks the column(s) {', '.join(missing)}; the columns must be "
+                             f"{', '.join(COLUMNS)}.")
+    unknown = sorted(set(table["landmark"].astype(str)) - set(LANDMARK_NAMES))
+    if unknown:
+        raise LeanVideoError(f"keypoints.csv has unknown landmark name(s) {', '.join(unknown[:3])}; use the 33 "
+                             "BlazePose names (nose, left_shoulder, ...).")
+    for key in ("width", "height"):
+        if not isinstance(clip.get(key), (int, float)) or clip[key] <= 0:
+            raise LeanVideoError(f"clip.json needs a positive '{key}' in pixels; {clip.get(key)!r} was given.")
+    return table, clip
+
+
+def _atomic_write_text(path: Path, text: str) -> None:
+    tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
+    with open(tmp, "w", encoding="utf-8", newline="") as handle:
+        handle.write(text)
+        handle.flush()
+        os.fsync(handle.fileno())
+    os.replace(tmp, path)

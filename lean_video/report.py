@@ -1,0 +1,422 @@
+"""Self-contained HTML reports: one analysed session, and a client's history.
+
+The report stage receives plain data (pandas tables, dicts, numpy frames; see
+DEVELOPERS.md) and returns HTML text. It imports no other pipeline stage.
+
+Self-contained means: plotly.js is inlined once, pictures are PNG ``data:``
+URIs, the lever-arm drawing is inline SVG, and a Content-Security-Policy
+meta tag (``default-src 'none'``) makes the browser refuse any network load
+the page might attempt. No absolute path and no clip file name appear unless
+the caller passes ``clip_name``.
+
+Jinja2 autoescaping is on for every template, so client names and notes are
+shown as text, never run as markup.
+
+Minimal detectable change (history report)
+------------------------------------------
+For each side and metric (per-phase lean, per-phase hip-force change):
+
+1. the client's stride-to-stride SD is pooled over all their sessions with at
+   least two phases on that side,
+   ``SD_p = sqrt(sum((n_i - 1) * SD_i**2) / sum(n_i - 1))``;
+2. the standard error of a session mean is ``SEM = SD_p / sqrt(n)``; for a
+   change between two sessions with n_a and n_b phases, ``n`` is their
+   harmonic mean ``2 / (1/n_a + 1/n_b)``;
+3. ``MDC95 = 1.96 * sqrt(2) * SEM`` (Weir 2005, J Strength Cond Res
+   19:231-240; Haley & Fragala-Pinkham 2006, Phys Ther 86:735-743), which
+   equals ``1.96 * SD_p * sqrt(1/n_a + 1/n_b)``.
+
+A change is flagged "beyond MDC" when ``|change| > MDC95``.
+"""
+
+from __future__ import annotations
+
+import logging
+import math
+import os
+import re
+import tempfile
+from datetime import datetime, timezone
+from pathlib import Path
+from typing import Any, Mapping, Sequence
+
+import numpy as np
+import pandas as pd
+import plotly.offline
+from jinja2 import Environment, FileSystemLoader, StrictUndefined
+from markupsafe import Markup
+from scipy import stats
+
+from lean_video import figures
+from lean_video.errors import LeanVideoError
+from lean_video.report_pictures import annotate_peak_frame, lever_arm_svg
+
+logger = logging.getLogger(__name__)
+
+SIDES = ("left", "right")
+Z95 = 1.96
+TEMPLATE_DIR = Path(__file__).with_name("templates")
+CSP = ("default-src 'none'; script-src 'unsafe-inline'; style-src 'unsafe-inline'; "
+       "img-src data:; font-src data:; connect-src 'none'; form-action 'none'; base-uri 'none'")
+_PLOT_CONFIG = {"displaylogo": False, "responsive": False, "displayModeBar": False}
+
+
+# --------------------------------------------------------------------------- statistics
+def pooled_sd(sds: Sequence[float], ns: Sequence[int]) -> float:
+    """Pooled standard deviation ``sqrt(sum((n-1) s^2) / sum(n-1))`` over groups with n >= 2.
+
+    Returns NaN only when no group has two or more values (the caller shows "n/a").
+    """
+    num = den = 0.0
+    for s, n in zip(sds, ns):
+        if n is not None and n >= 2 and s is not None and math.isfinite(s):
+            num += (n - 1) * s * s
+            den += n - 1
+    return math.sqrt(num / den) if den > 0 else math.nan
+
+
+def mdc95(sd_pooled: float, n_a: int, n_b: int) -> float:
+    """Minimal detectable change (95 %) between two session means.
+
+    ``MDC95 = 1.96 * sqrt(2) * SEM`` with ``SEM = sd_pooled / sqrt(n_h)`` and
+    ``n_h = 2 / (1/n_a + 1/n_b)`` (Weir 2005, J Strength Cond Res 19:231-240;
+    Haley & Fragala-Pinkham 2006, Phys Ther 86:735-743).
+
+    Parameters
+    ----------
+    sd_pooled : float
+        Client's pooled stride-to-stride SD, same unit as the result.
+    n_a, n_b : int
+        Phases (on that side) in the two sessions; both >= 1.
+    """
+    if not (n_a >= 1 and n_b >= 1):
+        raise LeanVideoError(f"mdc95 needs at least one phase per session, got n_a={n_a}, n_b={n_b}; "
+                             "compare sessions that have phases on that side.")
+    n_h = 2.0 / (1.0 / n_a + 1.0 / n_b)
+    sem = sd_pooled / math.sqrt(n_h)
+    return Z95 * math.sqrt(2.0) * sem
+
+
+def mean_ci95(values: Sequence[float]) -> tuple[float, float, float, float, int]:
+    """(mean, sd, lo, hi, n) with a Student-t 95 % CI; sd/lo/hi NaN if n < 2."""
+    v = np.asarray([x for x in values if x is not None and math.isfinite(x)], float)
+    n = len(v)
+    if n == 0:
+        return (math.nan,) * 4 + (0,)
+    m = float(v.mean())
+    if n < 2:
+        return m, math.nan, math.nan, math.nan, 1
+    sd = float(v.std(ddof=1))
+    half = float(stats.t.ppf(0.975, n - 1)) * sd / math.sqrt(n)
+    return m, sd, m - half, m + half, n
+
+
+# --------------------------------------------------------------------------- formatting
+def fmt(value: Any, digits: int = 1, unit: str = "") -> str:
+    """Number to text with fixed decimals; missing values as 'n/a' (never 'nan')."""
+    if value is None or isinstance(value, str):
+        return "n/a" if value is None else value
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        return str(value)
+    if not math.isfinite(v):
+        return "n/a"
+    return f"{v:.{digits}f}{unit}"
+
+
+def _flatten(d: Mapping, prefix: str = "") -> list[tuple[str, str]]:
+    rows: list[tuple[str, str]] = []
+    for k in sorted(d, key=str):
+        v = d[k]
+        key = f"{prefix}{k}"
+        if isinstance(v, Mapping):
+            rows += _flatten(v, key + ".")
+        elif isinstance(v, float):
+            rows.append((key, f"{v:g}"))
+        elif isinstance(v, (list, tuple)) and v and all(isinstance(x, Mapping) for x in v):
+            for i, x in enumerate(v):
+                rows += _flatten(x, f"{key}[{i}].")
+        elif isinstance(v, (list, tuple)):
+            rows.append((key, ", ".join(f"{x:g}" if isinstance(x, float) else str(x) for x in v)))
+        else:
+            rows.append((key, str(v)))
+    return rows
+
+
+def _env() -> Environment:
+    env = Environment(loader=FileSystemLoader(str(TEMPLATE_DIR)), autoescape=True,
+                      undefined=StrictUndefined, trim_blocks=True, lstrip_blocks=True)
+    env.filters["fmt"] = fmt
+    env.filters["signed"] = lambda v, d=1, u="": ("+" if (isinstance(v, (int, float)) and v > 0) else "") + fmt(v, d, u)
+    return env
+
+
+def _plot_div(fig, div_id: str) -> Markup:
+    # Markup: our own figure JSON; no client text goes into figures.
+    return Markup(fig.to_html(full_html=False, include_plotlyjs=False, div_id=div_id, config=_PLOT_CONFIG))
+
+
+def _now() -> str:
+    return datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+
+
+_CONTROL_RE = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f]")
+
+
+def clean_text(value: Any) -> str | None:
+    """Drop control characters (not valid in HTML text) from user-typed text; escaping is Jinja's job."""
+    return None if value is None else _CONTROL_RE.sub("", str(value))
+
+
+def _client_view(client: Mapping | None) -> dict[str, Any]:
+    c = dict(client or {})
+    return {"id": clean_text(c.get("id")) or "unnamed client", "display_name": clean_text(c.get("display_name")),
+            "notes": clean_text(c.get("notes")), "mass_kg": c.get("mass_kg"), "height_m": c.get("height_m"),
+            "birth_year": c.get("birth_year"), "side_of_interest": c.get("side_of_interest")}
+
+
+def _require(summary: Mapping, keys: Sequence[str]) -> None:
+    missing = [k for k in keys if k not in summary]
+    if missing:
+        raise LeanVideoError(f"summary lacks {missing}; pass the summary dict from the gait/mechanics stages.")
+
+
+# --------------------------------------------------------------------------- session report
+_PHASE_LABELS = (
+    ("stance_side", "Stance side"), ("start_s", "Start (s)"), ("end_s", "End (s)"), ("duration_s", "Duration (s)"),
+    ("lean_mean_deg", "Lean mean (°)"), ("lean_peak_deg", "Lean peak (°)"),
+    ("pelvic_drop_mean_deg", "Pelvic drop mean (°)"), ("pelvic_drop_peak_deg", "Pelvic drop peak (°)"),
+    ("lever_arm_cm", "Lever arm (cm)"), ("lever_arm_shortening_cm", "Shortening (cm)"),
+    ("abductor_force_bw", "Abductor force (BW)"), ("hip_force_bw", "Hip force (BW)"),
+    ("hip_force_change_pct", "Hip force change (%)"),
+)
+
+
+def _num(v: Any) -> float | None:
+    """Finite float or None (the templates print None as 'n/a'; never a silent NaN in text)."""
+    try:
+        f = float(v)
+    except (TypeError, ValueError):
+        return None
+    return f if math.isfinite(f) else None
+
+
+def _side_view(side: str, st: Mapping, strides: pd.DataFrame) -> dict[str, Any]:
+    sub = strides[strides["stance_side"] == side]
+
+    used: set[str] = set()
+
+    def pick(col: str) -> float | None:
+        # The summary's number wins (so report text equals the summary): "<col>_mean",
+        # else "<col>" (the mechanics stage's per-side median); else the mean over phases.
+        for key, stat in ((f"{col}_mean", "mean"), (col, "median")):
+            if _num(st.get(key)) is not None:
+                used.add(stat)
+                return _num(st.get(key))
+        if col in sub and sub[col].notna().any():
+            used.add("mean")
+            return _num(sub[col].mean())
+        return None
+
+    lever = pick("lever_arm_cm")
+    shortening = pick("lever_arm_shortening_cm")
+    force = pick("hip_force_change_pct")
+    upright = lever + shortening if lever is not None and shortening is not None else None
+    lean = _num(st.get("lean_mean_deg"))
+    svg = Markup(lever_arm_svg(upright, lever, lean, side)) if None not in (lever, upright, lean) else None
+    ci = st.get("lean_ci95_deg") or [None, None]
+    return {"side": side, "n": st.get("n_phases", len(sub)), "lean": lean, "lean_sd": _num(st.get("lean_sd_deg")),
+            "ci": [_num(ci[0]), _num(ci[1])], "drop": _num(st.get("pelvic_drop_mean_deg")),
+            "single_support_s": _num(st.get("single_support_mean_s")),
+            "force_change": force, "lever": lever, "upright": upright, "shortening": shortening, "svg": svg,
+            "mech_stat": " and ".join(sorted(used)) or None}
+
+
+def render_session_report(
+    summary: Mapping[str, Any], frames: pd.DataFrame, strides: pd.DataFrame, *,
+    events: pd.DataFrame | None = None, hip_curve: object | None = None,
+    pictures: Mapping[str, Mapping] | None = None, client: Mapping | None = None, date_filmed: str | None = None, clip_name: str | None = None,
+    clinic_name: str | None = None, blur_faces: bool = True, generated_utc: str | None = None,
+) -> str:
+    """Render the session report (client part, then clinician part) as one HTML string.
+
+    Parameters
+    ----------
+    summary : dict
+        Summary of the gait and mechanics stages (keys ``sides``, ``quality``,
+        ``settings``, ``version``, ``clip``, optional ``mechanics``,
+        ``direction``, ``camera_roll_deg``, ``cadence_steps_per_min``).
+        Per side, the mechanics numbers are read from ``<col>_mean`` or
+        ``<col>`` (median, as the mechanics stage's per-side summary names
+        them) for col in lever_arm_cm, lever_arm_shortening_cm,
+        hip_force_change_pct; if absent, the mean over ``strides`` is used.
+        The report states which statistic it shows.
+    frames, strides : DataFrame
+        Per-frame table and per-phase table (contract in DEVELOPERS.md).
+    events : DataFrame, optional
+        Gait events (time_s, frame, side, event); foot strikes are marked on the lean plot.
+    hip_curve : list of dict, dict of arrays, or sweep result, optional
+        Lean sweep from the mechanics stage (lean_deg, hip_force_bw, ...), e.g.
+        the object ``mechanics.lean_sweep(...)`` returns (see
+        :func:`lean_video.figures.curve_table`).
+    pictures : dict side -> {"rgb": (H, W, 3) uint8, "keypoints": {name: (x, y)}, "lean_deg": float}
+        Frame at peak lean for each side, optional.
+    client : dict, optional
+        Stored client fields (id, display_name, notes, mass_kg, ...); all escaped.
+    date_filmed, clip_name, clinic_name : str, optional
+        Shown only when given (the clip name is omitted by default for privacy).
+    blur_faces : bool
+        Pixelate the head in the pictures (default True).
+    generated_utc : str, optional
+        Timestamp to print; default now.
+    """
+    _require(summary, ("sides", "settings", "version", "clip"))
+    for name, df in (("frames", frames), ("strides", strides)):
+        if not isinstance(df, pd.DataFrame):
+            raise LeanVideoError(f"{name} must be a pandas DataFrame, got {type(df).__name__}; pass the gait table.")
+    sides = {s: _side_view(s, (summary["sides"].get(s) or {}), strides) for s in SIDES}
+    roll = float(summary.get("camera_roll_deg") or 0.0)
+    pics = {}
+    for side, p in (pictures or {}).items():
+        if side not in SIDES or not isinstance(p, Mapping) or "rgb" not in p or "keypoints" not in p:
+            raise LeanVideoError(f"pictures must map 'left'/'right' to {{'rgb', 'keypoints', ...}}, got key {side!r}; "
+                                 "pass the peak-lean frame and its keypoints.")
+        lean = p.get("lean_deg")
+        pics[side] = {"uri": annotate_peak_frame(p["rgb"], p["keypoints"], stance_side=side, lean_deg=lean,
+                                                 camera_roll_deg=roll, blur_faces=blur_faces),
+                      "lean": lean, "time_s": p.get("time_s")}
+    plots = [("plot-lean", figures.lean_timeseries(frames, strides, events)),
+             ("plot-obliquity", figures.obliquity_timeseries(frames, strides)),
+             ("plot-phases", figures.phase_lean(strides, summary["sides"]))]
+    if hip_curve:
+        plots.append(("plot-hipforce", figures.hip_force_curve(hip_curve, strides)))
+    phase_cols = [(c, lbl) for c, lbl in _PHASE_LABELS if c in strides]
+    quality = summary.get("quality") or {}
+    ctx = {
+        "title": "Walking assessment: trunk lean and hip load",
+        "csp": CSP, "plotly_js": Markup(plotly.offline.get_plotlyjs()),
+        "client": _client_view(client), "date_filmed": date_filmed, "clip_name": clip_name,
+        "clinic_name": clinic_name, "generated": generated_utc or _now(), "summary": summary,
+        "sides": sides, "pictures": pics, "blur_faces": blur_faces,
+        "plots": [(pid, _plot_div(fig, pid)) for pid, fig in plots],
+        "checks": quality.get("checks", []), "warnings": quality.get("warnings", []),
+        "quality_rows": [(k, v) for k, v in _flatten({k: v for k, v in quality.items()
+                                                      if k not in ("checks", "warnings")})],
+        "phase_cols": phase_cols, "phase_rows": strides[[c for c, _ in phase_cols]].to_dict("records"),
+        "settings_rows": _flatten(summary["settings"]),
+        "mechanics_rows": _flatten(summary.get("mechanics") or {}),
+        "clip": summary["clip"], "version": summary["version"],
+    }
+    return _env().get_template("session.html.j2").render(**ctx)
+
+
+# --------------------------------------------------------------------------- history report
+_HIST_METRICS = (("lean_mean_deg", "lean", "°"), ("hip_force_change_pct", "force", "%"))
+
+
+def history_rows(sessions: Sequence[Mapping]) -> dict[str, list[dict[str, Any]]]:
+    """Per side, one row per session with mean, 95 % CI, change and MDC95 for lean and hip-force change.
+
+    ``sessions``: dicts with ``date`` and ``phases`` (per-phase DataFrame),
+    oldest first. Means/CIs are computed from the phases (Student t). See the
+    module docstring for the MDC95 definition.
+    """
+    out: dict[str, list[dict[str, Any]]] = {}
+    for side in SIDES:
+        rows = []
+        for s in sessions:
+            ph = s["phases"]
+            sub = ph[ph["stance_side"] == side] if len(ph) else ph
+            row: dict[str, Any] = {"date": s["date"], "side": side}
+            for col, key, _ in _HIST_METRICS:
+                vals = sub[col].tolist() if col in sub else []
+                m, sd, lo, hi, n = mean_ci95([float(v) for v in vals if v is not None])
+                row.update({f"{key}_mean": m, f"{key}_sd": sd, f"{key}_lo": lo, f"{key}_hi": hi, f"{key}_n": n})
+            rows.append(row)
+        for _, key, _ in _HIST_METRICS:
+            sdp = pooled_sd([r[f"{key}_sd"] for r in rows], [r[f"{key}_n"] for r in rows])
+            for i, r in enumerate(rows):
+                r[f"{key}_sd_pooled"] = sdp
+                for tag, j in (("prev", i - 1), ("first", 0)):
+                    ref = rows[j] if (i > 0 and j >= 0) else None
+                    ok = (ref is not None and r[f"{key}_n"] >= 1 and ref[f"{key}_n"] >= 1 and math.isfinite(sdp))
+                    change = r[f"{key}_mean"] - ref[f"{key}_mean"] if ok else math.nan
+                    mdc = mdc95(sdp, ref[f"{key}_n"], r[f"{key}_n"]) if ok else math.nan
+                    r[f"{key}_change_{tag}"] = change
+                    r[f"{key}_mdc_{tag}"] = mdc
+                    r[f"{key}_beyond_{tag}"] = (abs(change) > mdc) if ok else None
+        out[side] = rows
+    return out
+
+
+def render_history_report(
+    client: Mapping, sessions: Sequence[Mapping], *, clinic_name: str | None = None,
+    generated_utc: str | None = None,
+) -> str:
+    """Render one client's history across sessions as an HTML string.
+
+    Parameters
+    ----------
+    client : dict
+        Stored client fields (``Store.get_client(id).as_dict()``).
+    sessions : list of dict
+        ``Store.history(id)``: each with ``date``, ``phases`` (DataFrame),
+        ``summary``, ``settings``, ``version``, ``clip_sha256``; oldest first.
+    """
+    if not sessions:
+        raise LeanVideoError("history report needs at least one stored session; analyse a clip for this client first.")
+    sessions = sorted(sessions, key=lambda s: str(s["date"]))
+    rows = history_rows(sessions)
+    flat = rows["left"] + rows["right"]
+    plots = [("plot-hist-lean", figures.history_metric(flat, "lean", "lean (°, + = toward stance side)",
+                                                       "Lean toward the standing leg, per session (95% CI)")),
+             ("plot-hist-force", figures.history_metric(flat, "force", "hip force change (%, − = less load)",
+                                                        "Estimated hip-force change from lean, per session (95% CI)"))]
+    prov = [{"date": s["date"], "version": s.get("version") or s["summary"].get("version"),
+             "clip_sha256": s.get("clip_sha256") or (s["summary"].get("clip") or {}).get("sha256"),
+             "params": _flatten({"settings": s.get("settings") or s["summary"].get("settings") or {},
+                                 "mechanics": s["summary"].get("mechanics") or {}})} for s in sessions]
+    shared = prov[0]["params"] if all(p["params"] == prov[0]["params"] for p in prov) else None
+    ctx = {"title": "Walking assessment: history", "csp": CSP, "plotly_js": Markup(plotly.offline.get_plotlyjs()),
+           "client": _client_view(client), "clinic_name": clinic_name, "generated": generated_utc or _now(),
+           "rows": rows, "plots": [(pid, _plot_div(fig, pid)) for pid, fig in plots], "provenance": prov,
+           "shared_params": shared,
+           "n_sessions": len(sessions)}
+    return _env().get_template("history.html.j2").render(**ctx)
+
+
+# --------------------------------------------------------------------------- writing
+def write_report_atomic(html: str, path: str | os.PathLike) -> Path:
+    """Write ``html`` to ``path`` atomically (temp file in the same folder, fsync, ``os.replace``).
+
+    A reader sees either the old file or the complete new one, never a part.
+    Returns the final path.
+    """
+    target = Path(path)
+    folder = target.parent if str(target.parent) else Path(".")
+    if not folder.is_dir():
+        raise LeanVideoError(f"report folder {folder.name or '.'} does not exist; create it or choose another --out.")
+    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
+            fh.write(html)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.chmod(tmp, 0o600)
+        os.replace(tmp, target)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except FileNotFoundError:
+            pass
+        raise
+    try:   # make the rename durable too (POSIX); not available everywhere
+        dfd = os.open(folder, os.O_RDONLY)
+        try:
+            os.fsync(dfd)
+        finally:
+            os.close(dfd)
+    except OSError:
+        pass
+    return target

@@ -1,0 +1,571 @@
+"""Tests for lean_video.report, lean_video.figures and lean_video.report_pictures.
+
+Fixture data are invented (fictional "Harbourside Physio Lab", client HP-014).
+"""
+
+from __future__ import annotations
+
+import base64
+import html as html_lib
+import json
+import math
+import os
+import re
+import shutil
+import subprocess
+from html.parser import HTMLParser
+from pathlib import Path
+
+import cv2
+import numpy as np
+import pandas as pd
+import plotly.offline
+import pytest
+
+from lean_video.errors import LeanVideoError
+from lean_video.report import (
+    clean_text, history_rows, mdc95, mean_ci95, pooled_sd, render_history_report, render_session_report,
+    write_report_atomic,
+)
+from lean_video.report_pictures import annotate_peak_frame, blur_face, body_crop, head_box, lever_arm_svg
+
+ARTIFACTS = Path(__file__).parent / "artifacts"
+HOSTILE_NAME = "<script>alert(1)</script>"
+HOSTILE_NOTES = "he said \"ouch\" & 'ow' \x07\x00<img src=x onerror=alert(2)>"
+
+
+# --------------------------------------------------------------------------- fixtures
+def make_strides(n: int = 12, left_lean: float = 6.0, right_lean: float = 2.0, seed: int = 3) -> pd.DataFrame:
+    rng = np.random.default_rng(seed)
+    rows = []
+    for i in range(n):
+        side = "left" if i % 2 == 0 else "right"
+        lean = (left_lean if side == "left" else right_lean) + rng.normal(0, 1.0)
+        start = 0.3 + 0.55 * i
+        lever = 10.0 - 0.2 * lean
+        rows.append({"stance_side": side, "start_s": start, "end_s": start + 0.4, "duration_s": 0.4,
+                     "lean_mean_deg": lean, "lean_peak_deg": lean + 1.5, "pelvic_drop_mean_deg": -1.0 + 0.1 * i,
+                     "pelvic_drop_peak_deg": 2.5, "lever_arm_cm": lever, "lever_arm_shortening_cm": 10.0 - lever,
+                     "lever_arm_shortening_pct": (10.0 - lever) * 10, "abductor_force_bw": 1.9 - 0.05 * lean,
+                     "hip_force_bw": 2.8 - 0.06 * lean, "hip_force_change_pct": -0.06 * lean / 2.8 * 100})
+    return pd.DataFrame(rows)
+
+
+def make_frames(strides: pd.DataFrame | None = None, duration_s: float = 7.0, fps: float = 30.0) -> pd.DataFrame:
+    """Lean as smooth bumps over each phase: toward the stance side (client's right = +)."""
+    strides = make_strides() if strides is None else strides
+    t = np.arange(0, duration_s, 1 / fps)
+    lean = np.zeros_like(t)
+    for r in strides.itertuples(index=False):
+        sign = 1.0 if r.stance_side == "right" else -1.0
+        mid, half = (r.start_s + r.end_s) / 2, (r.end_s - r.start_s) / 2
+        lean += sign * r.lean_mean_deg * np.exp(-0.5 * ((t - mid) / (0.6 * half)) ** 2)
+    valid = np.ones_like(t, bool)
+    valid[40:46] = False
+    return pd.DataFrame({"frame": np.arange(len(t)), "time_s": t, "trunk_lean_deg": lean,
+                         "pelvic_obliquity_deg": -0.4 * lean, "left_contact": lean < 0, "right_contact": lean > 0,
+                         "valid": valid})
+
+
+def make_summary(strides: pd.DataFrame) -> dict:
+    sides = {}
+    for side in ("left", "right"):
+        sub = strides[strides["stance_side"] == side]
+        m, sd, lo, hi, n = mean_ci95(sub["lean_mean_deg"].tolist())
+        sides[side] = {"n_phases": n, "lean_mean_deg": m, "lean_sd_deg": sd, "lean_ci95_deg": [lo, hi],
+                       "pelvic_drop_mean_deg": float(sub["pelvic_drop_mean_deg"].mean()),
+                       "single_support_mean_s": 0.4,
+                       "hip_force_change_pct_mean": float(sub["hip_force_change_pct"].mean()),
+                       "lever_arm_shortening_cm_mean": float(sub["lever_arm_shortening_cm"].mean()),
+                       "lever_arm_cm_mean": float(sub["lever_arm_cm"].mean())}
+    return {
+        "direction": "toward", "camera_roll_deg": 1.2, "cadence_steps_per_min": 109.1, "sides": sides,
+        "quality": {"checks": [
+            {"name": "landmarks visible", "status": "pass", "detail": "97% of frames", "suggestion": ""},
+            {"name": "steps per side", "status": "warn", "detail": "6 per side", "suggestion": "film a longer walk"},
+            {"name": "camera roll", "status": "fail", "detail": "1.2 deg", "suggestion": "level the phone"}],
+            "warnings": ["walking speed varied"], "n_valid_frames": 203,
+            "dropped_phases": [{"stance_side": "left", "reason": "partial phase"}]},
+        "settings": {"filter_cutoff_hz": 6.0, "min_visibility": 0.5, "event_method": "velocity"},
+        "version": "0.1.0",
+        "clip": {"sha256": "c" * 64, "width": 1080, "height": 1920, "fps": 30.0, "duration_s": 7.0},
+        "mechanics": {"mass_kg": 72.5, "abductor_lever_cm": 5.0, "defaults_used": {"abductor_lever_cm": True}},
+    }
+
+
+def make_events(strides: pd.DataFrame) -> pd.DataFrame:
+    rows = []
+    for r in strides.itertuples(index=False):
+        other = "right" if r.stance_side == "left" else "left"
+        rows += [{"time_s": r.start_s, "frame": int(r.start_s * 30), "side": other, "event": "foot_off"},
+                 {"time_s": r.end_s, "frame": int(r.end_s * 30), "side": other, "event": "foot_strike"}]
+    return pd.DataFrame(rows)
+
+
+def make_curve() -> list[dict]:
+    return [{"lean_deg": float(x), "hip_force_bw": 2.8 - 0.06 * x, "hip_force_change_pct": -0.06 * x / 2.8 * 100,
+             "lever_arm_cm": 10.0 - 0.2 * x} for x in np.arange(-5, 15.5, 0.5)]
+
+
+def make_picture(lean_deg: float = 6.0) -> dict:
+    h, w = 720, 405
+    img = np.full((h, w, 3), 180, np.uint8)
+    rng = np.random.default_rng(0)
+    img[60:160, 150:250] = rng.integers(0, 256, (100, 100, 3), dtype=np.uint8)   # "face" texture
+    kp = {"nose": (200, 110), "left_eye": (212, 100), "right_eye": (188, 100), "left_ear": (228, 108),
+          "right_ear": (172, 108), "left_shoulder": (250, 200), "right_shoulder": (150, 200),
+          "left_hip": (235, 380), "right_hip": (175, 380), "left_knee": (240, 520), "right_knee": (170, 520),
+          "left_ankle": (240, 660), "right_ankle": (170, 660), "left_elbow": (265, 290), "right_elbow": (135, 290),
+          "left_wrist": (268, 370), "right_wrist": (132, 370)}
+    return {"rgb": img, "keypoints": kp, "lean_deg": lean_deg, "time_s": 1.23}
+
+
+@pytest.fixture(scope="module")
+def session_html() -> tuple[str, dict]:
+    strides = make_strides()
+    summary = make_summary(strides)
+    html = render_session_report(
+        summary, make_frames(strides), strides, events=make_events(strides), hip_curve=make_curve(),
+        pictures={"left": make_picture(6.0), "right": make_picture(-2.0)},
+        client={"id": "HP-014", "display_name": HOSTILE_NAME, "notes": HOSTILE_NOTES, "mass_kg": 72.5,
+                "height_m": 1.7}, date_filmed="2026-11-03", clinic_name="Harbourside Physio Lab")
+    return html, summary
+
+
+def make_sessions() -> list[dict]:
+    out = []
+    for k, (date, ll) in enumerate((("2026-09-01", 9.0), ("2026-10-01", 8.6), ("2026-11-03", 4.0))):
+        st = make_strides(12, left_lean=ll, right_lean=2.0, seed=k)
+        out.append({"date": date, "phases": st, "summary": make_summary(st), "version": "0.1.0",
+                    "clip_sha256": f"{k}" * 64, "settings": {"filter_cutoff_hz": 6.0}})
+    return out
+
+
+# --------------------------------------------------------------------------- HTML helpers
+class _Collect(HTMLParser):
+    def __init__(self) -> None:
+        super().__init__(convert_charrefs=True)
+        self.tags: list[tuple[str, dict]] = []
+        self.outside_script_text: list[str] = []
+        self.style_text: list[str] = []
+        self._in: list[str] = []
+        self.tables: dict[str, list[list[str]]] = {}
+        self._table: str | None = None
+        self._cell: list[str] | None = None
+
+    def handle_starttag(self, tag, attrs):
+        a = dict(attrs)
+        self.tags.append((tag, a))
+        if tag in ("script", "style"):
+            self._in.append(tag)
+        if tag == "table" and a.get("id"):
+            self._table = a["id"]
+            self.tables[self._table] = []
+        if self._table and tag == "tr":
+            self.tables[self._table].append([])
+        if self._table and tag in ("td", "th"):
+            self._cell = []
+
+    def handle_endtag(self, tag):
+        if tag in ("script", "style") and self._in:
+            self._in.pop()
+        if tag in ("td", "th") and self._cell is not None and self._table:
+            self.tables[self._table][-1].append("".join(self._cell).strip())
+            self._cell = None
+        if tag == "table":
+            self._table = None
+
+    def handle_data(self, data):
+        if self._in and self._in[-1] == "style":
+            self.style_text.append(data)
+        if not self._in:
+            self.outside_script_text.append(data)
+        if self._cell is not None:
+            self._cell.append(data)
+
+
+def parse(html: str) -> _Collect:
+    p = _Collect()
+    p.feed(html)
+    p.close()
+    return p
+
+
+URL_ATTRS = {"src", "href", "action", "formaction", "data", "poster", "srcset", "background", "xlink:href",
+             "cite", "longdesc", "manifest", "ping"}
+
+
+def assert_no_external_reference(html: str) -> None:
+    """No tag attribute, CSS or text outside scripts refers to a network location.
+
+    plotly.js (inlined in one <script>) contains URL strings in its code (e.g.
+    for map tiles we never use); they are not resource references. The CSP
+    meta tag (default-src 'none') additionally makes the browser refuse them.
+    """
+    p = parse(html)
+    for tag, attrs in p.tags:
+        assert tag not in ("link", "iframe", "object", "embed", "base", "frame", "audio", "video", "source"), tag
+        for k, v in attrs.items():
+            if k in URL_ATTRS and v is not None:
+                assert v.startswith("data:") or v.startswith("#"), (tag, k, v[:80])
+            if v and k not in ("content",):   # the CSP's own text is checked below
+                assert "//" not in v or v.startswith("data:"), (tag, k, v[:80])
+        if tag == "script":
+            assert "src" not in attrs
+        if tag == "meta" and attrs.get("http-equiv") == "Content-Security-Policy":
+            assert "default-src 'none'" in attrs["content"] and "http" not in attrs["content"]
+    css = "".join(p.style_text)
+    assert "@import" not in css and not re.search(r"url\((?!\s*['\"]?data:)", css)
+    text = "".join(p.outside_script_text)
+    assert "//" not in text, re.findall(r".{20}//.{20}", text)[:3]
+    assert any(t == "meta" and a.get("http-equiv") == "Content-Security-Policy" for t, a in p.tags)
+
+
+# --------------------------------------------------------------------------- statistics
+def test_pooled_sd_and_mdc_hand_computed():
+    # Hand computation (Weir 2005, J Strength Cond Res 19:231-240, MDC95 = 1.96*sqrt(2)*SEM):
+    # SDs 2 and 3 with n = 10 each: pooled var = (9*4 + 9*9)/18 = 6.5;
+    # SEM = sqrt(6.5)/sqrt(10) = 0.806226; MDC95 = 1.96*1.414214*0.806226 = 2.23474.
+    sdp = pooled_sd([2.0, 3.0], [10, 10])
+    assert sdp == pytest.approx(math.sqrt(6.5), rel=1e-12)
+    assert mdc95(sdp, 10, 10) == pytest.approx(2.23474, abs=5e-5)
+    # Unequal n: n_a=5, n_b=20 -> harmonic mean 8; SD 2: MDC = 1.96*sqrt(2)*2/sqrt(8) = 1.96.
+    assert mdc95(2.0, 5, 20) == pytest.approx(1.96, rel=1e-12)
+
+
+def test_pooled_sd_ignores_single_phase_sessions_and_mdc_validates():
+    assert pooled_sd([2.0, float("nan")], [10, 1]) == pytest.approx(2.0)
+    assert math.isnan(pooled_sd([float("nan")], [1]))
+    with pytest.raises(LeanVideoError, match="mdc95 needs at least one phase"):
+        mdc95(1.0, 0, 3)
+
+
+def test_mean_ci95_student_t():
+    # t(0.975, 2) = 4.302653 (standard t table, e.g. Altman 1991, Practical Statistics for Medical Research, App. B).
+    m, sd, lo, hi, n = mean_ci95([4.0, 6.0, 8.0])
+    assert (m, sd, n) == (6.0, 2.0, 3)
+    assert hi - m == pytest.approx(4.302653 * 2.0 / math.sqrt(3), abs=1e-5)
+
+
+def test_history_rows_mdc_hand_computed():
+    # Left lean per phase: session A [4, 6] (SD sqrt 2), session B [8, 10, 12] (SD 2).
+    # Pooled var = (1*2 + 2*4)/3 = 10/3; MDC95 = 1.96*sqrt(10/3*(1/2+1/3)) = 1.96*5/3 = 3.26667.
+    def ph(vals):
+        return pd.DataFrame({"stance_side": ["left"] * len(vals), "lean_mean_deg": vals,
+                             "hip_force_change_pct": [-1.0 * v for v in vals]})
+    rows = history_rows([{"date": "2026-01-01", "phases": ph([4.0, 6.0])},
+                         {"date": "2026-02-01", "phases": ph([8.0, 10.0, 12.0])}])["left"]
+    assert rows[1]["lean_change_prev"] == pytest.approx(5.0)
+    assert rows[1]["lean_mdc_prev"] == pytest.approx(1.96 * 5 / 3, abs=1e-9)
+    assert rows[1]["lean_beyond_prev"] is True
+    assert rows[0]["lean_beyond_prev"] is None and math.isnan(rows[0]["lean_change_prev"])
+    assert rows[1]["force_change_first"] == pytest.approx(-5.0)
+
+
+# --------------------------------------------------------------------------- session report
+def test_session_report_has_no_external_reference(session_html):
+    html, _ = session_html
+    assert_no_external_reference(html)
+
+
+def test_plotly_inlined_once_and_every_plot_present(session_html):
+    html, _ = session_html
+    head = plotly.offline.get_plotlyjs()[:300]
+    assert html.count(head) == 1
+    for pid in ("plot-lean", "plot-obliquity", "plot-phases", "plot-hipforce"):
+        assert re.search(rf'<div id="{pid}" class="plotly-graph-div"', html), pid
+    assert html.count("Plotly.newPlot(") == 4
+    assert '"name":"left foot strike"' in html and '"name":"right foot strike"' in html
+
+
+def test_session_numbers_match_summary(session_html):
+    html, summary = session_html
+    tables = parse(html).tables
+    side_rows = {r[0]: r for r in tables["side-table"][1:]}
+    for side in ("left", "right"):
+        s = summary["sides"][side]
+        row = side_rows[side]
+        assert row[1] == str(s["n_phases"])
+        assert row[2] == f"{s['lean_mean_deg']:.1f}"
+        assert row[4] == f"{s['lean_ci95_deg'][0]:.1f} to {s['lean_ci95_deg'][1]:.1f}"
+        assert float(row[9]) == pytest.approx(s["hip_force_change_pct_mean"], abs=0.051)
+    assert len(tables["phase-table"]) == 1 + 12
+    assert [r[0] for r in tables["checks"][1:]] == ["landmarks visible", "steps per side", "camera roll"]
+    assert [tuple(r) for r in tables["quality-details"][1:]] == [
+        ("dropped_phases[0].reason", "partial phase"), ("dropped_phases[0].stance_side", "left"),
+        ("n_valid_frames", "203")]
+    params = dict(tuple(r) for r in tables["settings"][1:])
+    assert params == {"event_method": "velocity", "filter_cutoff_hz": "6", "min_visibility": "0.5"}
+    assert dict(tuple(r) for r in tables["mechanics"][1:])["defaults_used.abductor_lever_cm"] == "True"
+    assert summary["clip"]["sha256"] in html and "lean_video 0.1.0" in html
+    # client text uses the same numbers
+    left = summary["sides"]["left"]
+    assert f'<div class="big">{abs(left["lean_mean_deg"]):.1f}°</div>' in html
+    assert f"{abs(left['hip_force_change_pct_mean']):.0f}% lower" in html
+
+
+def test_session_report_escapes_hostile_client_text(session_html):
+    html, _ = session_html
+    assert HOSTILE_NAME not in html and "<img src=x" not in html
+    assert "&lt;script&gt;alert(1)&lt;/script&gt;" in html
+    assert "&#34;ouch&#34; &amp; &#39;ow&#39;" in html
+    assert "\x07" not in html and "\x00" not in html
+    assert clean_text("a\x00b\x1bc\td\ne") == "abc\td\ne"
+
+
+def test_session_report_privacy_and_cautions(session_html):
+    html, _ = session_html
+    assert "/work/" not in html and "/tmp/" not in html and ".mp4" not in html
+    assert "not a diagnosis" in html and "local regulations" in html and "only on this computer" in html
+    assert html.count('<img src="data:image/png;base64,') == 2
+    assert html.count('<svg class="lever"') == 2
+
+
+def test_clip_name_only_when_passed():
+    strides = make_strides()
+    html = render_session_report(make_summary(strides), make_frames(), strides, clip_name="walk_03.mp4")
+    assert "walk_03.mp4" in html
+    assert 'id="plot-hipforce"' not in html           # no curve given, no empty plot
+
+
+def test_session_report_without_mechanics_says_so():
+    strides = make_strides()[["stance_side", "start_s", "end_s", "duration_s", "lean_mean_deg"]]
+    summary = make_summary(make_strides())
+    for side in summary["sides"].values():
+        for k in ("hip_force_change_pct_mean", "lever_arm_cm_mean", "lever_arm_shortening_cm_mean"):
+            side.pop(k)
+    summary["sides"]["right"]["lean_sd_deg"] = float("nan")
+    html = render_session_report(summary, make_frames(), strides)
+    assert html.count("No hip-load estimate") == 2 and '<svg class="lever"' not in html
+    assert "nan" not in parse(html).tables["side-table"][2]     # NaN shown as n/a
+    assert "n/a" in parse(html).tables["side-table"][2]
+
+
+def test_mechanics_medians_and_dict_curve_accepted():
+    # The mechanics stage names its per-side medians without "_mean" and its sweep is a dict of arrays.
+    strides = make_strides()
+    summary = make_summary(strides)
+    for side in ("left", "right"):
+        st = summary["sides"][side]
+        for col in ("hip_force_change_pct", "lever_arm_cm", "lever_arm_shortening_cm"):
+            st.pop(f"{col}_mean")
+            st[col] = float(strides.loc[strides["stance_side"] == side, col].median())
+    curve = {k: np.array([d[k] for d in make_curve()]) for k in make_curve()[0]}
+    html = render_session_report(summary, make_frames(strides), strides, hip_curve=curve)
+    row = {r[0]: r for r in parse(html).tables["side-table"][1:]}["left"]
+    assert row[7] == f"{summary['sides']['left']['lever_arm_cm']:.1f}"
+    assert "per-side median over phases" in html and 'id="plot-hipforce"' in html
+
+
+def test_bad_pictures_refused():
+    strides = make_strides()
+    with pytest.raises(LeanVideoError, match="pictures must map"):
+        render_session_report(make_summary(strides), make_frames(), strides, pictures={"left": {"rgb": None}})
+
+
+def test_session_report_requires_summary_keys():
+    with pytest.raises(LeanVideoError, match=r"summary lacks \['clip'\]"):
+        render_session_report({"sides": {}, "settings": {}, "version": "x"}, make_frames(), make_strides())
+
+
+# --------------------------------------------------------------------------- history report
+def test_history_report():
+    sessions = make_sessions()
+    html = render_history_report({"id": "HP-014", "display_name": HOSTILE_NAME}, sessions,
+                                 clinic_name="Harbourside Physio Lab")
+    assert_no_external_reference(html)
+    assert HOSTILE_NAME not in html and "&lt;script&gt;" in html
+    for pid in ("plot-hist-lean", "plot-hist-force"):
+        assert f'<div id="{pid}" class="plotly-graph-div"' in html
+    tables = parse(html).tables
+    rows = history_rows(sessions)
+    left = tables["history-left"][2:]
+    assert [r[0] for r in left] == ["2026-09-01", "2026-10-01", "2026-11-03"]
+    for r_html, r in zip(left, rows["left"]):
+        assert r_html[2].startswith(f"{r['lean_mean']:.1f} [")
+    # Left lean dropped about 4.6 deg at the last visit with SD ~1 and 6 phases: beyond MDC;
+    # 9.0 -> 8.6 between the first two is not.
+    assert rows["left"][2]["lean_beyond_prev"] is True and left[2][3].endswith("▲")
+    assert rows["left"][1]["lean_beyond_prev"] is False and "▲" not in left[1][3]
+    prov = tables["prov-sessions"][1:]
+    assert [(r[0], r[2]) for r in prov] == [(s["date"], s["clip_sha256"]) for s in sessions]
+    assert dict(tuple(r) for r in tables["prov-params"][1:])["settings.filter_cutoff_hz"] == "6"
+    assert "Weir 2005" in html
+
+
+def test_history_report_lists_parameters_per_session_when_they_differ():
+    sessions = make_sessions()
+    sessions[1]["settings"] = {"filter_cutoff_hz": 4.0}
+    tables = parse(render_history_report({"id": "HP-014"}, sessions)).tables
+    assert "prov-params" not in tables
+    html = render_history_report({"id": "HP-014"}, sessions)
+    assert html.count('<table class="prov-session">') == 3 and "<td>4</td>" in html
+
+
+def test_history_report_from_store(tmp_path):
+    # Integration: Store.history() gives exactly what render_history_report takes.
+    from lean_video.store import open_store
+    with open_store(tmp_path) as st:
+        st.upsert_client("HP-014", display_name=HOSTILE_NAME, mass_kg=72.5)
+        for s in make_sessions():
+            st.save_session("HP-014", s["date"], s["clip_sha256"], s["settings"], s["version"], s["summary"],
+                            s["phases"])
+        html = render_history_report(st.get_client("HP-014").as_dict(), st.history("HP-014"))
+    ref = history_rows(make_sessions())
+    left = parse(html).tables["history-left"][2:]
+    assert [r[2] for r in left] == [f"{r['lean_mean']:.1f} [{r['lean_lo']:.1f}, {r['lean_hi']:.1f}]" for r in ref["left"]]
+    assert "&lt;script&gt;" in html
+
+
+def test_history_report_needs_sessions():
+    with pytest.raises(LeanVideoError, match="at least one stored session"):
+        render_history_report({"id": "HP-014"}, [])
+
+
+# --------------------------------------------------------------------------- pictures
+def _laplacian_var(img: np.ndarray) -> float:
+    return float(cv2.Laplacian(cv2.cvtColor(img, cv2.COLOR_RGB2GRAY), cv2.CV_64F).var())
+
+
+def test_face_blur_removes_detail_only_around_head():
+    pic = make_picture()
+    box = head_box(pic["keypoints"], pic["rgb"].shape[:2])
+    x0, y0, x1, y1 = box
+    assert x0 <= 172 and x1 >= 228 and y0 <= 100 and y1 >= 110        # covers eyes, ears, nose
+    assert (x1 - x0) >= 0.6 * 100 * 2 - 2                              # sized from 100 px shoulder width
+    out = blur_face(pic["rgb"], pic["keypoints"])
+    before, after = _laplacian_var(pic["rgb"][y0:y1, x0:x1]), _laplacian_var(out[y0:y1, x0:x1])
+    assert after < 0.02 * before
+    np.testing.assert_array_equal(out[y1 + 5:], pic["rgb"][y1 + 5:])   # rest untouched
+
+
+def test_face_blur_without_landmarks_pixelates_everything():
+    pic = make_picture()
+    out = blur_face(pic["rgb"], {})
+    assert _laplacian_var(out[60:160, 150:250]) < 0.02 * _laplacian_var(pic["rgb"][60:160, 150:250])
+
+
+def _decode(uri: str) -> np.ndarray:
+    assert uri.startswith("data:image/png;base64,")
+    buf = np.frombuffer(base64.b64decode(uri.split(",", 1)[1]), np.uint8)
+    return cv2.cvtColor(cv2.imdecode(buf, cv2.IMREAD_COLOR), cv2.COLOR_BGR2RGB)
+
+
+def test_annotated_picture_draws_trunk_line_and_honours_blur_option():
+    pic = make_picture()
+    blurred = _decode(annotate_peak_frame(pic["rgb"], pic["keypoints"], stance_side="left", lean_deg=6.0))
+    clear = _decode(annotate_peak_frame(pic["rgb"], pic["keypoints"], stance_side="left", lean_deg=6.0,
+                                        blur_faces=False))
+    assert blurred.shape == clear.shape
+    x0, y0, x1, y1 = body_crop(pic["keypoints"], (720, 405))
+    k = clear.shape[1] / (x1 - x0)
+    assert clear.shape[0] <= 560 and clear.shape[0] == pytest.approx((y1 - y0) * k, abs=1)
+
+    def at(x, y):   # original-frame pixel -> annotated-picture pixel
+        return int(round((y - y0) * k)), int(round((x - x0) * k))
+    # Trunk line midway between mid-hip (205, 380) and mid-shoulder (200, 200) is the trunk colour.
+    r, g, b = clear[at(202.5, 290)].astype(int)
+    assert r > 150 and g < 90 and b < 110
+    # Face region: textured without blur, smooth with it (away from drawn lines).
+    (ra, ca), (rb, cb) = at(155, 65), at(245, 95)
+    assert _laplacian_var(blurred[ra:rb, ca:cb]) < 0.05 * _laplacian_var(clear[ra:rb, ca:cb])
+    with pytest.raises(LeanVideoError, match="uint8"):
+        annotate_peak_frame(pic["rgb"].astype(float), pic["keypoints"], stance_side="left")
+
+
+def test_body_crop_keeps_every_keypoint():
+    kp = {"nose": (500, 300), "left_ankle": (560, 1500), "right_ankle": (440, 1500)}
+    x0, y0, x1, y1 = body_crop(kp, (1920, 1080))
+    assert x0 < 440 and x1 > 560 and y0 < 300 and y1 > 1500 and (x1 - x0) >= 0.6 * (y1 - y0) - 1
+    assert body_crop({}, (100, 50)) == (0, 0, 50, 100)
+
+
+def test_lever_arm_svg_is_to_scale():
+    svg = lever_arm_svg(10.2, 8.1, 6.3, "left")
+    assert "10.2 cm" in svg and "8.1 cm" in svg and "6.3°" in svg
+    bars = [(float(a), float(b)) for a, b in re.findall(r'<line x1="([\d.]+)" y1="\d+" x2="([\d.]+)" y2="\d+" '
+                                                          r'stroke="[^"]+" stroke-width="6"', svg)]
+    assert len(bars) == 2
+    (a0, a1), (b0, b1) = bars
+    assert (b1 - b0) / (a1 - a0) == pytest.approx(8.1 / 10.2, rel=0.01)
+    with pytest.raises(LeanVideoError, match="finite lean_cm"):
+        lever_arm_svg(10.0, float("nan"), 3.0, "left")
+
+
+# --------------------------------------------------------------------------- atomic write
+def test_write_report_atomic_leaves_no_temp_files(tmp_path, monkeypatch):
+    target = tmp_path / "HP-014_2026-11-03.html"
+    write_report_atomic("<p>one</p>", target)
+    write_report_atomic("<p>two</p>", target)
+    assert os.listdir(tmp_path) == [target.name]
+    assert target.read_text(encoding="utf-8") == "<p>two</p>"
+
+    def boom(*a, **k):
+        raise OSError("disk full")
+    monkeypatch.setattr(os, "replace", boom)
+    with pytest.raises(OSError):
+        write_report_atomic("<p>three</p>", target)
+    assert os.listdir(tmp_path) == [target.name]
+    assert target.read_text(encoding="utf-8") == "<p>two</p>"
+
+
+def test_write_report_atomic_missing_folder(tmp_path):
+    with pytest.raises(LeanVideoError, match="does not exist"):
+        write_report_atomic("x", tmp_path / "nope" / "r.html")
+
+
+# --------------------------------------------------------------------------- browser
+CHROMIUM = "/usr/bin/chromium"
+PROBE_HEAD = ("<script>window.__errors=[];window.addEventListener('error',function(e){window.__errors.push("
+              "String(e.message))});document.addEventListener('securitypolicyviolation',function(e){"
+              "window.__errors.push('CSP:'+e.violatedDirective+':'+e.blockedURI)});</script>")
+PROBE_TAIL = ("<script>window.addEventListener('load',function(){setTimeout(function(){var r={};"
+              "document.querySelectorAll('.plotly-graph-div').forEach(function(g){r[g.id]=[g.querySelectorAll("
+              "'.main-svg').length,g.querySelectorAll('.scatterlayer .trace').length]});var d=document.createElement"
+              "('pre');d.id='probe';d.textContent=JSON.stringify({plots:r,errors:window.__errors});"
+              "document.body.appendChild(d);},500);});</script>")
+
+
+def _chromium(args: list[str], profile: Path) -> subprocess.CompletedProcess:
+    cmd = [CHROMIUM, "--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking",
+           "--disable-component-update", "--disable-sync", "--no-first-run", "--disable-dev-shm-usage",
+           f"--user-data-dir={profile}", *args]
+    return subprocess.run(cmd, capture_output=True, text=True, timeout=120)
+
+
+@pytest.mark.slow
+@pytest.mark.skipif(not Path(CHROMIUM).exists(), reason="chromium not installed")
+@pytest.mark.parametrize("kind", ["session", "history"])
+def test_report_renders_in_headless_browser(kind, session_html, tmp_path):
+    if kind == "session":
+        html = session_html[0]
+        plot_ids = ["plot-lean", "plot-obliquity", "plot-phases", "plot-hipforce"]
+    else:
+        html = render_history_report({"id": "HP-014"}, make_sessions(), clinic_name="Harbourside Physio Lab")
+        plot_ids = ["plot-hist-lean", "plot-hist-force"]
+    page = tmp_path / f"{kind}.html"
+    write_report_atomic(html, page)
+    probed = tmp_path / f"{kind}_probe.html"
+    probed.write_text(html.replace("<head>", "<head>" + PROBE_HEAD, 1).replace("</body>", PROBE_TAIL + "</body>", 1),
+                      encoding="utf-8")
+    res = _chromium(["--virtual-time-budget=8000", "--dump-dom", probed.as_uri()], tmp_path / "profile")
+    m = re.search(r'<pre id="probe">(.*?)</pre>', res.stdout)
+    assert m, res.stderr[-2000:]
+    probe = json.loads(html_lib.unescape(m.group(1)))
+    assert sorted(probe["plots"]) == sorted(plot_ids)
+    for pid, (n_svg, n_traces) in probe["plots"].items():
+        assert n_svg >= 1 and n_traces >= 1, (pid, n_svg, n_traces)   # plotly drew axes and data
+    assert probe["errors"] == []                # no JS error, no CSP violation (no network attempt)
+    ARTIFACTS.mkdir(exist_ok=True)
+    (ARTIFACTS / ".gitignore").write_text("*\n", encoding="utf-8")     # artifacts are never committed
+    shot = tmp_path / f"{kind}.png"
+    res = _chromium([f"--screenshot={shot}", "--window-size=1200,3000", "--virtual-time-budget=8000",
+                     "--hide-scrollbars", page.as_uri()], tmp_path / "profile2")
+    assert shot.exists() and shot.stat().st_size > 50_000, res.stderr[-2000:]
+    shutil.copy(shot, ARTIFACTS / f"{kind}_report.png")
+    pdf = tmp_path / f"{kind}.pdf"
+    res = _chromium([f"--print-to-pdf={pdf}", "--no-pdf-header-footer", "--virtual-time-budget=8000",
+                     page.as_uri()], tmp_path / "profile3")
+    assert pdf.exists() and pdf.read_bytes()[:5] == b"%PDF-", res.stderr[-2000:]
+    shutil.copy(pdf, ARTIFACTS / f"{kind}_report.pdf")
+    shutil.copy(page, ARTIFACTS / f"{kind}_report.html")

@@ -1,0 +1,74 @@
+"""The default manifest: demo scenario (fictional client HP-014 of the fictional
+Harbourside Physio Lab) and the truth clips the tests and pipeline checks rely on.
+
+Every number that shapes a clip is in the manifest, so re-rendering from it
+reproduces the clips (same seeds -> same frames; the MP4 bytes also match when the
+same ffmpeg/x264 build is used).
+"""
+from __future__ import annotations
+
+from .gait import WalkParams
+from .scene import CameraParams, RoomParams
+
+DEMO_SESSIONS = [  # date, right-stance lean, left-stance lean, drops (R stance, L stance), speed
+    ("2026-09-01", 10.0, 2.0, 6.0, 2.0, 0.75),
+    ("2026-09-15", 8.0, 2.0, 5.0, 2.0, 0.80),
+    ("2026-09-29", 6.0, 2.0, 4.0, 2.0, 0.85),
+    ("2026-10-13", 4.0, 2.0, 3.0, 2.0, 0.90),
+]
+SHIRTS = [(0.16, 0.33, 0.62), (0.55, 0.15, 0.18), (0.18, 0.45, 0.30), (0.45, 0.40, 0.55)]
+
+
+def _entry(name, walk: WalkParams, cam=CameraParams(), room=RoomParams(), video=None, **meta):
+    return {"name": name, **meta, "walk": walk.to_dict(), "camera": cam.to_dict(),
+            "room": room.to_dict(),
+            "video": {"fps": 30, "codec": "h264", "crf": 28, "stored_landscape": False,
+                      **(video or {})}}
+
+
+def default_manifest() -> dict:
+    clips = []
+    for i, (date, lr, ll, dr, dl, v) in enumerate(DEMO_SESSIONS):
+        walk = WalkParams(seed=1400 + i, speed_m_s=v, cadence_steps_min=96 + 2 * i,
+                          height_m=1.68, width_scale=1.08, lean_right_stance_deg=lr,
+                          lean_left_stance_deg=ll, pelvic_drop_right_stance_deg=dr,
+                          pelvic_drop_left_stance_deg=dl, lean_offset_deg=0.5,
+                          step_width_m=0.12, shirt_rgb=SHIRTS[i])
+        cam = CameraParams(height_m=1.15 + 0.03 * i, pitch_deg=-5.0 - i * 0.5, roll_deg=0.4 - 0.3 * i)
+        room = RoomParams(light_azimuth_deg=20 + 25 * i, light_elevation_deg=50 + 4 * i)
+        clips.append(_entry(f"HP-014_{date}", walk, cam, room, kind="demo",
+                            clinic="Harbourside Physio Lab (fictional)", client="HP-014",
+                            session_date=date,
+                            description="fictional client, walking toward the camera"))
+    truth = [
+        ("truth_no_lean", WalkParams(seed=11, speed_m_s=1.0, height_m=1.75), CameraParams(), RoomParams(), {},
+         "no trunk lean, no pelvic drop"),
+        ("truth_symmetric_lean", WalkParams(seed=12, speed_m_s=0.9, height_m=1.62, width_scale=0.94,
+                                            lean_right_stance_deg=6, lean_left_stance_deg=6,
+                                            pelvic_drop_right_stance_deg=3, pelvic_drop_left_stance_deg=3),
+         CameraParams(height_m=1.3), RoomParams(light_azimuth_deg=-40), {}, "symmetric lean 6 deg"),
+        ("truth_camera_roll", WalkParams(seed=13, speed_m_s=0.9, height_m=1.80, lean_right_stance_deg=5,
+                                         lean_left_stance_deg=2, pelvic_drop_right_stance_deg=4),
+         CameraParams(roll_deg=3.0), RoomParams(light_azimuth_deg=60), {}, "camera rolled 3 deg clockwise"),
+        ("truth_walk_away", WalkParams(seed=14, start_distance_m=2.0, end_distance_m=7.5, speed_m_s=0.9,
+                                       lean_right_stance_deg=6, lean_left_stance_deg=2,
+                                       pelvic_drop_right_stance_deg=4, width_scale=1.12),
+         CameraParams(), RoomParams(light_azimuth_deg=-20, light_elevation_deg=70), {},
+         "walking away from the camera"),
+        ("truth_portrait_rotated", WalkParams(seed=15, speed_m_s=0.95, lean_right_stance_deg=6,
+                                              lean_left_stance_deg=2, pelvic_drop_left_stance_deg=3),
+         CameraParams(), RoomParams(), {"stored_landscape": True},
+         "portrait clip stored landscape with a 90 deg display rotation"),
+        ("truth_hevc_60fps", WalkParams(seed=16, start_distance_m=6.0, end_distance_m=2.5, speed_m_s=1.0,
+                                        lean_right_stance_deg=3, lean_left_stance_deg=7),
+         CameraParams(height_m=1.0, pitch_deg=-3.0), RoomParams(light_azimuth_deg=-60), {"codec": "hevc", "fps": 60},
+         "HEVC at 60 fps, lean larger on the left"),
+        ("truth_1080p_heavy", WalkParams(seed=17, speed_m_s=0.85, height_m=1.70, width_scale=1.18,
+                                         lean_right_stance_deg=7, lean_left_stance_deg=3,
+                                         pelvic_drop_right_stance_deg=5),
+         CameraParams(width_px=1080, height_px=1920), RoomParams(light_azimuth_deg=80, light_elevation_deg=40),
+         {}, "1080x1920, heavier build"),
+    ]
+    for name, walk, cam, room, video, desc in truth:
+        clips.append(_entry(name, walk, cam, room, video, kind="truth", description=desc))
+    return {"schema_version": 1, "generator": "python -m tools.synth.render_all", "clips": clips}
