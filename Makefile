@@ -12,6 +12,7 @@ APT_PACKAGES := ffmpeg libosmesa6 chromium
 $(STAMP): pyproject.toml constraints.txt
 	$(PYTHON) -m venv $(VENV)
 	$(BIN)/python -m pip install --quiet --disable-pip-version-check -c constraints.txt -e '.[test,synth]'
+	$(BIN)/python -m pip install --quiet --disable-pip-version-check --no-deps pyrender==0.1.45
 	touch $(STAMP)
 
 venv: $(STAMP)

@@ -104,11 +104,11 @@ def cmd_analyse(args: argparse.Namespace) -> int:
                 pass
         store.check_body(mass_kg=mass, height_m=height)
         out = _out_dir(args.out)
+        pipeline.check_out_dir(out, args.input, force=args.force)
         options = pipeline.AnalysisOptions(camera_roll_deg=args.camera_roll_deg, cutoff_hz=args.cutoff_hz,
                                            mass_kg=mass, height_m=height)
         analysis = pipeline.analyse(args.input, options=options, cache_dir=args.cache_dir,
                                     progress=_show_progress(args))
-        pipeline.check_out_dir(out, analysis.summary["clip"].get("sha256", ""), force=args.force)
         written = pipeline.write_outputs(analysis, out)
         client = None
         session_id = None
@@ -167,7 +167,7 @@ def cmd_clients(args: argparse.Namespace) -> int:
         return 0
     print(f"{'client':<20} {'sessions':>8}  last filmed")
     for c in clients:
-        print(f"{c.client_id:<20} {c.n_sessions:>8}  {c.last_date or '-'}")
+        print(f"{c.id:<20} {c.n_sessions:>8}  {c.last_date or '-'}")
     return 0
 
 
@@ -198,6 +198,23 @@ def cmd_forget(args: argparse.Namespace) -> int:
         counts = db.forget_client(client_id)
     print(f"deleted client {client_id}: " + ", ".join(f"{v} {k}" for k, v in counts.items()))
     return 0
+
+
+def cmd_check(args: argparse.Namespace) -> int:
+    import json
+
+    from lean_video import capture
+
+    result = capture.quick_check(args.clip)
+    if args.json:
+        print(json.dumps(result, indent=2))
+    else:
+        for c in result["checks"]:
+            line = f"{c['status'].upper():<5} {c['name']:<16} {c['detail']}"
+            print(line + (f"\n      -> {c['suggestion']}" if c["suggestion"] else ""))
+        print("Steps per side are checked by 'lean-video analyse'.")
+    failed = [c["name"] for c in result["checks"] if c["status"] == "fail"]
+    return 3 if failed else 0
 
 
 def _add_store_args(p: argparse.ArgumentParser) -> None:
@@ -242,6 +259,11 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--force", action="store_true", help="replace results of a different clip in --out")
     _add_store_args(p)
     p.set_defaults(func=cmd_analyse)
+
+    p = sub.add_parser("check", help="quick capture check of a clip (a few seconds), before the client leaves")
+    p.add_argument("clip", help="video file")
+    p.add_argument("--json", action="store_true", help="print the checks as JSON")
+    p.set_defaults(func=cmd_check)
 
     p = sub.add_parser("history", help="trend report of one client across sessions (history.html)")
     p.add_argument("client", help="client id")

@@ -34,9 +34,9 @@ import pandas as pd
 from scipy import stats
 
 from lean_video.errors import LeanVideoError
-from lean_video.gait_clean import clean_track, finite_segments, keypoints_to_track
+from lean_video.gait_clean import clean_track, keypoints_to_track
 from lean_video.gait_events import (
-    assign_client_sides, body_height_px, detect_contacts, foot_speeds,
+    assign_client_sides, body_height_px, detect_contacts, foot_centre_events, foot_speeds,
     refine_event_times, smooth_body_height, walking_direction,
 )
 
@@ -117,12 +117,13 @@ def _phases(intervals, time_s, lean, obliq, *, min_phase_s, max_phase_s,
             max_missing_fraction, frame_s):
     """Single-support phases from events: other foot's foot off -> its next foot strike.
 
-    The stance foot must be in contact over the whole phase (within one frame
-    interval ``frame_s``); phases cut by the clip/tracking edges, too short or
+    The stance foot must be in contact over the whole phase (within three
+    frame intervals: event timing errs by a frame or two); phases cut by the clip/tracking edges, too short or
     too long, or with too few frames with hips and shoulders are dropped with
     a reason.
     """
     rows, drops = [], []
+    slack_s = 3 * frame_s
     for stance, swing in (("left", "right"), ("right", "left")):
         sw = sorted(intervals[swing], key=lambda iv: iv[0])
         st = intervals[stance]
@@ -135,7 +136,7 @@ def _phases(intervals, time_s, lean, obliq, *, min_phase_s, max_phase_s,
                               "reason": "partial phase: the swing foot's next foot strike is not seen (end of clip or lost tracking)"})
                 continue
             start, end = s_off, nxt[0]
-            holder = [iv for iv in st if iv[0] <= start + frame_s and iv[1] >= end - frame_s]
+            holder = [iv for iv in st if iv[0] <= start + slack_s and iv[1] >= end - slack_s]
             if not holder:
                 drops.append({"stance_side": stance, "start_s": float(start),
                               "reason": "stance foot not seen in contact for the whole phase"})
@@ -197,7 +198,8 @@ def analyse_keypoints(
     event_cutoff_hz: float = 6.0, contact_on_fraction: float = 0.2,
     contact_off_fraction: float = 0.3, min_phase_s: float = 0.15, max_phase_s: float = 1.0,
     max_missing_fraction: float = 0.2, footprint_tolerance: float = 0.01,
-    contact_points: str = "centroid",
+    contact_points: str = "centroid", foot_centre_timing: bool = True,
+    foot_centre_cutoff_hz: float = 10.0,
 ) -> GaitResult:
     """Find foot events, single-support phases, trunk lean and pelvic obliquity.
 
@@ -268,8 +270,10 @@ def analyse_keypoints(
         ev_track = filtered
     else:
         ev_track = clean_track(raw, time_s, max_gap_s=max_gap_s, cutoff_hz=event_cutoff_hz)[0]
+    fc_track = clean_track(raw, time_s, max_gap_s=max_gap_s, cutoff_hz=foot_centre_cutoff_hz)[0]
     direction, slope, warnings = walking_direction(filled, time_s)
-    (filtered, ev_track), n_relabel = assign_client_sides([filtered, ev_track], direction)
+    (filtered, ev_track, fc_track), n_relabel = assign_client_sides(
+        [filtered, ev_track, fc_track], direction)
 
     lean, obliq = frame_angles(filtered, direction=direction, camera_roll_deg=camera_roll_deg)
     scale = smooth_body_height(body_height_px(filtered), time_s)
@@ -285,6 +289,12 @@ def analyse_keypoints(
         if footprint_tolerance > 0:
             intervals[side], _ = refine_event_times(
                 ev_track, time_s, side, scale, intervals[side], floor_fraction=footprint_tolerance)
+    if foot_centre_timing:
+        intervals = {side: foot_centre_events(
+            fc_track, time_s, side, intervals[side], direction=direction,
+            other_intervals=intervals[other], camera_roll_deg=camera_roll_deg)
+            for side, other in (("left", "right"), ("right", "left"))}
+    for side in SIDES:
         # per-frame contact between the (refined) foot strike and foot off
         contact[side] = np.zeros(len(time_s), bool)
         for t_strike, t_off, *_ in intervals[side]:

@@ -162,15 +162,26 @@ def foot_speeds(
     """Distance-normalised image speed of each foot point, each of shape (n,).
 
     ``|d(x, y)/dt| * B_ref / B**2`` in reference body heights per second (see
-    module docstring) for heel, ankle, foot_index and their mean ("centroid",
-    less noisy); NaN where untracked.
+    module docstring) for heel, ankle, foot_index, and of their mean velocity over the points
+    seen in each frame ("centroid", less noisy); NaN where untracked.
     """
     b_ref = float(np.nanmedian(scale_px))
     out = {}
-    pts = [track[PAIRS[part][0 if side == "left" else 1]] for part in FOOT_POINTS]
-    for part, p in zip(FOOT_POINTS + ("centroid",), pts + [np.mean(pts, axis=0)]):
+    vel = []
+    for part in FOOT_POINTS:
+        p = track[PAIRS[part][0 if side == "left" else 1]]
         v = np.stack([np.gradient(p[:, k], time_s) for k in range(2)], axis=1)
+        vel.append(v)
         out[part] = np.linalg.norm(v, axis=1) * b_ref / scale_px**2
+    # mean velocity of the points seen in each frame: a point dropping out
+    # (the heel is often hidden facing the camera) causes no jump
+    vel = np.stack(vel)
+    seen = np.isfinite(vel[..., 0])
+    mean_v = np.full(vel.shape[1:], np.nan)
+    any_seen = seen.any(axis=0)
+    mean_v[any_seen] = (np.where(seen[..., None], vel, 0.0).sum(axis=0)[any_seen]
+                        / seen.sum(axis=0)[any_seen][:, None])
+    out["centroid"] = np.linalg.norm(mean_v, axis=1) * b_ref / scale_px**2
     return out
 
 
@@ -335,18 +346,22 @@ def refine_event_times(
     for t_s, t_o, i0, i1, s_seen, o_seen in intervals:
         per_point = {}
         for name in names:
-            p = track[name][i0:i1]
-            if len(p) < 4 or not np.all(np.isfinite(p)):
+            seen = i0 + np.flatnonzero(np.all(np.isfinite(track[name][i0:i1]), axis=1))
+            if len(seen) < 4:
                 continue
+            p = track[name][seen]
             step = np.linalg.norm(np.diff(p, axis=0), axis=1)
             still = np.sort(np.argsort(step)[: max(2, len(step) // 3)])
             # separate footprints for arrival and departure: marker-like points
             # drift slowly while the foot rolls over, which is not a foot off
-            early, late = still[: max(1, len(still) // 2)], still[len(still) // 2:]
+            half = len(step) // 2
+            k = max(2, len(step) // 6)
+            early = np.sort(np.argsort(step[:half])[:k]) if half >= 2 else still[:1]
+            late = half + np.sort(np.argsort(step[half:])[:k]) if len(step) - half >= 2 else still[-1:]
             feet = (np.median(p[early], axis=0), np.median(p[late], axis=0))
-            per_point[name] = (feet, i0 + int(early[-1]), i0 + int(late[0]))
+            per_point[name] = (feet, int(seen[early[-1]]), int(seen[late[0]]))
             rel_res.append(np.linalg.norm(p[still] - np.median(p[still], axis=0), axis=1)
-                           / scale_px[i0:i1][still])
+                           / scale_px[seen[still]])
         prints.append(per_point)
     sigma = float(1.4826 * np.median(np.concatenate(rel_res))) if rel_res else 0.0
     tol_rel = max(noise_k * sigma, floor_fraction)
@@ -360,7 +375,9 @@ def refine_event_times(
             if d[a] <= 1:
                 while a > 0 and d[a - 1] <= 1:
                     a -= 1
-                if a > 0 and np.isfinite(d[a - 1]):
+                if a > 0 and not np.isfinite(d[a - 1]):
+                    pass  # point lost before it arrived: it cannot time the strike
+                elif a > 0:
                     f = (d[a - 1] - 1) / (d[a - 1] - d[a]) if d[a - 1] != d[a] else 1.0
                     t_cross = time_s[a - 1] + np.clip(f, 0, 1) * (time_s[a] - time_s[a - 1])
                     arrivals.append((_extrapolate_edge(time_s, d, a - 1, -1, t_cross, extrapolate_to), name))
@@ -371,7 +388,9 @@ def refine_event_times(
             if d[b] <= 1:
                 while b < n - 1 and d[b + 1] <= 1:
                     b += 1
-                if b < n - 1 and np.isfinite(d[b + 1]):
+                if b < n - 1 and not np.isfinite(d[b + 1]):
+                    pass  # point lost after it left: it cannot time the foot off
+                elif b < n - 1:
                     f = (1 - d[b]) / (d[b + 1] - d[b]) if d[b + 1] != d[b] else 0.0
                     t_cross = time_s[b] + np.clip(f, 0, 1) * (time_s[b + 1] - time_s[b])
                     departures.append((_extrapolate_edge(time_s, d, b + 1, 1, t_cross, extrapolate_to), name))
@@ -384,3 +403,68 @@ def refine_event_times(
         out.append((float(t_s), float(t_o), i0, i1, s_seen, o_seen))
     return out, sigma
 
+
+
+def _peak_time(t, s, i):
+    """Sub-frame time of the local maximum of s at sample i (parabola through i-1, i, i+1)."""
+    if i <= 0 or i >= len(s) - 1 or not np.all(np.isfinite(s[i - 1:i + 2])):
+        return float(t[i])
+    den = s[i - 1] - 2 * s[i] + s[i + 1]
+    f = 0.0 if den >= 0 else float(np.clip(0.5 * (s[i - 1] - s[i + 1]) / den, -0.5, 0.5))
+    return float(t[i] + f * (t[i + 1] - t[i] if f > 0 else t[i] - t[i - 1]))
+
+
+def foot_centre_events(
+    track: dict[str, np.ndarray], time_s: np.ndarray, side: str, intervals: list, *,
+    direction: str, other_intervals: list = (), camera_roll_deg: float = 0.0,
+    window_before_s: float = 0.25, window_after_s: float = 0.07,
+) -> list:
+    """Re-time the event hidden by the frontal view from the foot centre's upward image velocity.
+
+    Foot-velocity algorithm (O'Connor et al. 2007, Gait & Posture 25:469-474,
+    from memory): foot off is the peak of the upward velocity of the foot
+    centre, the midpoint of heel and toe. Walking toward the camera the swing
+    toe's lift and approach cancel in the image right after foot off, so the
+    toe's departure from its footprint is seen late; the heel, high and
+    rising fast as the foot rolls over the toe, keeps the foot centre's upward
+    image velocity rising until the foot leaves the floor, and the approach
+    (image down) turns it over right after. The peak is searched within
+    ``[t_off - window_before_s, t_off + window_after_s]`` around the
+    position-based foot off and interpolated to sub-frame time; where there is
+    no clear peak (or the heel or toe is not tracked) the position-based time is
+    kept. A foot leaves the floor only after the other foot has landed
+    (double support, about 10 % of the cycle each; Perry & Burnfield 2010,
+    Gait Analysis, 2nd ed., ch. 1, from memory), so the search starts no
+    earlier than the other foot's last foot strike before the position-based
+    foot off (``other_intervals``, same layout). Walking away the approach term has the other sign, so the
+    position-based times are kept (the change applies to ``direction ==
+    "toward"`` only).
+
+    Returns
+    -------
+    intervals : list
+        Same layout as :func:`detect_contacts`.
+    """
+    if direction != "toward":
+        return list(intervals)
+    k = 0 if side == "left" else 1
+    heel, toe = track[PAIRS["heel"][k]], track[PAIRS["foot_index"][k]]
+    r = np.radians(camera_roll_deg)
+    up = np.array([np.sin(r), -np.cos(r)])
+    centre = (heel + toe) / 2 @ up
+    v_up = np.gradient(centre, time_s)
+    out = []
+    for t_s, t_o, i0, i1, s_seen, o_seen in intervals:
+        if o_seen:
+            lo = t_o - window_before_s
+            prior = [iv[0] for iv in other_intervals if iv[4] and t_o - 2 * window_before_s < iv[0] < t_o]
+            if prior:
+                lo = max(lo, max(prior))
+            sel = np.flatnonzero((time_s >= lo) & (time_s <= t_o + window_after_s))
+            sel = sel[np.isfinite(v_up[sel])]
+            if len(sel) >= 3:
+                j = sel[np.argmax(v_up[sel])]
+                if sel[0] < j < sel[-1] and v_up[j] > 0:
+                    t_o = max(_peak_time(time_s, v_up, j), t_s)
+        out.append((t_s, t_o, i0, i1, s_seen, o_seen))
+    return out

@@ -122,16 +122,21 @@ def analyse(
     -------
     Analysis
     """
-    from lean_video import capture, gait, mechanics
+    from lean_video import capture, gait, mechanics, posture
 
     path = Path(input_path)
     if not path.exists():
         raise LeanVideoError(f"Input not found: '{path}'; give a video file or a folder written by 'lean-video pose'.")
     keypoints, clip, video, pose_info = _load_keypoints(path, options, cache_dir=cache_dir, progress=progress)
     width, height = int(clip["width"]), int(clip["height"])
+    capture.require_upright(keypoints)
 
-    roll = capture.camera_roll(video, keypoints, user_roll_deg=options.camera_roll_deg)
-    result = gait.analyse_keypoints(keypoints, width=width, height=height, camera_roll_deg=roll.roll_deg,
+    camera = capture.camera_setup(video, keypoints, user_roll_deg=options.camera_roll_deg)
+    roll = camera.roll
+    measured = keypoints
+    if camera.motion is not None:
+        measured = _stabilised(keypoints, camera.motion)
+    result = gait.analyse_keypoints(measured, width=width, height=height, camera_roll_deg=roll.roll_deg,
                                     cutoff_hz=options.cutoff_hz)
     strides = mechanics.add_mechanics_columns(result.strides, mass_kg=options.mass_kg, height_m=options.height_m)
     mech_info = dict(strides.attrs.get("mechanics", {}))
@@ -140,6 +145,7 @@ def analyse(
     summary = dict(result.summary)
     summary["sides"] = {side: {**summary["sides"].get(side, {}), **_mech_side(per_side.get(side, {}))}
                         for side in ("left", "right")}
+    summary["standing"] = posture.standing_posture(result.frames, measured)
     summary["camera_roll_deg"] = roll.roll_deg
     summary["camera_roll_source"] = roll.source
     summary["camera_roll_confidence"] = roll.confidence
@@ -149,11 +155,31 @@ def analyse(
     summary["settings"] = {**summary.get("settings", {}), "analysis": asdict(options)}
     summary["mechanics"] = {**mech_info, "caution": mechanics.CAUTION}
     quality = dict(summary.get("quality") or {})
-    quality["checks"] = capture.capture_checks(keypoints, clip, summary, roll=roll)
+    quality["checks"] = capture.capture_checks(keypoints, clip, summary, extra=camera.checks)
+    quality["camera_motion"] = camera.motion_class
+    for check in quality["checks"]:
+        if check["status"] == "fail":
+            message = f"capture check '{check['name']}' failed: {check['detail']}; {check['suggestion']}"
+            log.warning(message)
+            quality.setdefault("warnings", []).append(message)
     summary["quality"] = quality
     params = mechanics.HipModelParams.from_body(height_m=options.height_m or mechanics.DEFAULT_HEIGHT_M)
     curve = mechanics.lean_sweep(params=params, mass_kg=options.mass_kg)
     return Analysis(result.frames, result.events, strides, _json_ready(summary), keypoints, video, curve)
+
+
+def _stabilised(keypoints: pd.DataFrame, motion) -> pd.DataFrame:
+    """Keypoints mapped into the first frame's pixels, so a still foot stays still."""
+    from lean_video.scene_motion import stabilise_points
+
+    out = keypoints.copy()
+    ok = out["x_px"].notna().to_numpy() & out["frame"].isin(motion.frame_indices).to_numpy()
+    x, y = stabilise_points(out.loc[ok, "x_px"].to_numpy(), out.loc[ok, "y_px"].to_numpy(), motion,
+                            out.loc[ok, "frame"].to_numpy())
+    out.loc[ok, "x_px"], out.loc[ok, "y_px"] = x, y
+    log.info("keypoints stabilised for camera motion (up to %.1f deg, %.1f%% of the picture)",
+             motion.max_rotation_deg, 100 * motion.max_translation_frac)
+    return out
 
 
 def _mech_side(side: dict) -> dict:
@@ -178,16 +204,30 @@ def _atomic_write(path: Path, text: str) -> None:
             tmp.unlink()
 
 
-def check_out_dir(out_dir: Path, clip_sha256: str, *, force: bool) -> None:
+def input_sha256(input_path: str | os.PathLike) -> str | None:
+    """Content hash of the analysed clip: the file's, or the one recorded in ``clip.json``."""
+    from lean_video.video import file_sha256
+
+    path = Path(input_path)
+    if path.is_file():
+        return file_sha256(path)
+    try:
+        return json.loads((path / "clip.json").read_text()).get("sha256")
+    except (OSError, ValueError):
+        return None
+
+
+def check_out_dir(out_dir: Path, input_path: str | os.PathLike, *, force: bool) -> None:
     """Refuse to overwrite another clip's results in ``out_dir`` unless forced."""
     previous = out_dir / "summary.json"
     if force or not previous.exists():
         return
+    clip_sha256 = input_sha256(input_path)
     try:
         old = json.loads(previous.read_text()).get("clip", {}).get("sha256")
     except (OSError, ValueError):
         old = None
-    if old != clip_sha256:
+    if old is None or old != clip_sha256:
         raise LeanVideoError(
             f"The folder '{out_dir}' already holds the results of a different clip; choose another --out "
             "folder, or add --force to replace them."

@@ -371,7 +371,7 @@ class Store:
                       (client_id, session_id, str(Path(path).resolve()), _now_utc()))
 
     def export_client(self, client_id: str, out_dir: str | os.PathLike) -> list[Path]:
-        """Write ``<id>_client.json``, ``<id>_sessions.csv`` and ``<id>_phases.csv``.
+        """Write ``<id>_client.json``, ``<id>_client.csv``, ``<id>_sessions.csv`` and ``<id>_phases.csv``.
 
         Text cells starting with ``= + - @`` (or tab / carriage return) get a
         leading apostrophe so spreadsheets do not run them as formulas
@@ -384,17 +384,21 @@ class Store:
         out.mkdir(parents=True, exist_ok=True)
         doc = {"client": client.as_dict(),
                "sessions": [{k: v for k, v in s.__dict__.items()} for s in sessions]}
-        paths = [out / f"{client_id}_client.json", out / f"{client_id}_sessions.csv", out / f"{client_id}_phases.csv"]
-        paths[0].write_text(json.dumps(doc, indent=2, ensure_ascii=False, allow_nan=False), encoding="utf-8")
+        json_path, client_csv = out / f"{client_id}_client.json", out / f"{client_id}_client.csv"
+        sessions_csv, phases_csv = out / f"{client_id}_sessions.csv", out / f"{client_id}_phases.csv"
+        json_path.write_text(json.dumps(doc, indent=2, ensure_ascii=False, allow_nan=False), encoding="utf-8")
+        fields = client.as_dict()
+        _write_csv(client_csv, list(fields), [list(fields.values())])
         s_cols = ["session_id", "client_id", "date_filmed", "clip_sha256", "software_version", "created_utc", "n_phases"]
-        _write_csv(paths[1], s_cols, [[s.id, s.client_id, s.date_filmed, s.clip_sha256, s.software_version,
-                                       s.created_utc, s.n_phases] for s in sessions])
+        _write_csv(sessions_csv, s_cols, [[s.id, s.client_id, s.date_filmed, s.clip_sha256, s.software_version,
+                                           s.created_utc, s.n_phases] for s in sessions])
         p_rows = []
         for s in sessions:
             df = self.get_phases(s.id)
             for i, rec in enumerate(df.itertuples(index=False)):
                 p_rows.append([s.id, s.date_filmed, i, *rec])
-        _write_csv(paths[2], ["session_id", "date_filmed", "phase_index", *PHASE_COLUMNS], p_rows)
+        _write_csv(phases_csv, ["session_id", "date_filmed", "phase_index", *PHASE_COLUMNS], p_rows)
+        paths = [json_path, client_csv, sessions_csv, phases_csv]
         return paths
 
     def forget_client(self, client_id: str) -> dict[str, int]:

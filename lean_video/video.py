@@ -37,7 +37,11 @@ log = logging.getLogger(__name__)
 MIN_DURATION_S = 2.0
 
 #: Frame rates a phone records (24 to 240 fps) with a margin either side.
-FPS_RANGE = (10.0, 300.0)
+FPS_RANGE = (20.0, 250.0)
+
+#: Longest picture side accepted: DCI 4K (4096 px). An 8K frame holds 100 MB
+#: and the pose model gains nothing from it.
+MAX_SIDE_PX = 4096
 
 _CHUNK = 1 << 20
 
@@ -163,10 +167,15 @@ def probe_clip(path: str | os.PathLike, *, min_duration_s: float = MIN_DURATION_
         )
     if not (FPS_RANGE[0] <= fps <= FPS_RANGE[1]):
         raise LeanVideoError(
-            f"'{p.name}' reports {fps:.1f} frames per second; 24 to 240 fps are supported, "
-            "so record again at 30 or 60 fps."
+            f"'{p.name}' reports {fps:.1f} frames per second; {FPS_RANGE[0]:.0f} to {FPS_RANGE[1]:.0f} fps "
+            "are supported, so record again at 30 or 60 fps."
         )
     height, width = first.shape[:2]
+    if max(width, height) > MAX_SIDE_PX:
+        raise LeanVideoError(
+            f"'{p.name}' is {width}x{height} pixels; clips up to 4K ({MAX_SIDE_PX} px) are supported, "
+            "so record at 4K, 1080p or 720p."
+        )
     rotation = (360 - meta) % 360
     duration_s = frame_count / fps if frame_count > 0 else 0.0
     if duration_s < min_duration_s:
@@ -256,3 +265,31 @@ def to_rgb(bgr: np.ndarray, *, max_side_px: int | None = None) -> np.ndarray:
         if scale < 1.0:
             bgr = cv2.resize(bgr, (round(w * scale), round(h * scale)), interpolation=cv2.INTER_AREA)
     return cv2.cvtColor(bgr, cv2.COLOR_BGR2RGB)
+
+
+def sample_frames(path: str | os.PathLike, *, n: int) -> list[tuple[int, float, np.ndarray]]:
+    """About ``n`` frames spread evenly over a clip, as ``(index, time_s, rgb)``.
+
+    Frames in between are decoded but not converted (``grab`` without
+    ``retrieve``), which keeps a quick look at a long clip to a few seconds.
+    """
+    if n < 1:
+        raise LeanVideoError(f"n must be at least 1 frame; {n} was given.")
+    info = probe_clip(path, min_duration_s=0.0)
+    total = max(info.frame_count, 1)
+    wanted = set(np.linspace(0, total - 1, num=min(n, total)).round().astype(int).tolist())
+    cap = _open_capture(Path(path))
+    out = []
+    try:
+        index = 0
+        while index <= max(wanted):
+            if not cap.grab():
+                break
+            if index in wanted:
+                ok, bgr = cap.retrieve()
+                if ok and bgr is not None:
+                    out.append((index, float(cap.get(cv2.CAP_PROP_POS_MSEC)) / 1000.0, to_rgb(bgr)))
+            index += 1
+    finally:
+        cap.release()
+    return out

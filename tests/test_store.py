@@ -268,10 +268,13 @@ def test_export_neutralises_formulas_but_keeps_negative_numbers(store, tmp_path)
     store.upsert_client("HP-014", display_name="=HYPERLINK(\"http://x\")", notes="@evil")
     sid, _ = store.save_session("HP-014", "2026-11-03", SHA_A, SETTINGS, "=cmd|' /C calc'!A0", SUMMARY, _strides())
     paths = store.export_client("HP-014", tmp_path / "out")
-    assert [p.name for p in paths] == ["HP-014_client.json", "HP-014_sessions.csv", "HP-014_phases.csv"]
-    sess = _read_csv(paths[1])
+    assert [p.name for p in paths] == ["HP-014_client.json", "HP-014_client.csv", "HP-014_sessions.csv",
+                                      "HP-014_phases.csv"]
+    client_row = _read_csv(paths[1])[0]
+    assert client_row["display_name"].startswith("'=HYPERLINK") and client_row["notes"] == "'@evil"
+    sess = _read_csv(paths[2])
     assert sess[0]["software_version"] == "'=cmd|' /C calc'!A0"
-    phases = _read_csv(paths[2])
+    phases = _read_csv(paths[3])
     assert len(phases) == 4
     assert phases[0]["pelvic_drop_mean_deg"] == "-1.5"          # a number: no apostrophe
     assert float(phases[0]["hip_force_change_pct"]) == -12.5

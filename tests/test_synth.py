@@ -146,6 +146,12 @@ def test_portrait_stored_landscape_decodes_upright(tiny, tmp_path):
     path = tmp_path / "rot.mp4"
     info = encode(frames, path, FPS, crf=18, stored_landscape=True)
     assert (info["stored_width_px"], info["stored_height_px"]) == (284, 160)
+    raw = cv2.VideoCapture(str(path))
+    raw.set(cv2.CAP_PROP_ORIENTATION_AUTO, 0)
+    ok, stored = raw.read()
+    assert ok and stored.shape[:2] == (160, 284)  # really stored landscape
+    # DEVELOPERS.md: OpenCV's orientation sign is opposite to ffprobe's (-90 here).
+    assert raw.get(cv2.CAP_PROP_ORIENTATION_META) == 90
     cap = cv2.VideoCapture(str(path))
     cap.set(cv2.CAP_PROP_ORIENTATION_AUTO, 1)
     ok, bgr = cap.read()

@@ -65,7 +65,8 @@ def load_body(height_m: float = 1.70, width_scale: float = 1.0, shirt_rgb=None,
     j = (j + shift) * scale
     ex = (ex + shift) * scale
     dom = wi[:, 0]
-    # Second-largest weight decides on boundaries so sleeves/trousers follow bones.
+    # Clothing regions follow the dominant skin-weight segment of each vertex, so
+    # sleeves and trouser legs move with their bones.
     seg = np.array(names)[dom]
     colours = np.empty((len(v), 4), np.uint8)
     pal = dict(COLOURS)

@@ -159,15 +159,19 @@ class VideoWriter:
             # display matrix asks players to turn them 90 deg clockwise back upright.
             if not _supports_display_rotation(exe):
                 raise RuntimeError(f"{exe} lacks -display_rotation (needs ffmpeg >= 6.1)")
-            in_args = ["-display_rotation", "-90"]
+            # -noautorotate: keep the stored frames landscape and pass the display
+            # matrix through instead of rotating the pixels back (ffmpeg >= 6.1).
+            in_args = ["-display_rotation", "-90", "-noautorotate"]
         lib = {"h264": "libx264", "hevc": "libx265"}[codec]
         cmd = [exe, "-y", "-loglevel", "error", "-f", "rawvideo", "-pix_fmt", "rgb24",
                "-s", f"{w}x{h}", "-r", str(fps), *in_args, "-i", "-", "-c:v", lib,
-               "-preset", "medium", "-crf", str(crf), "-pix_fmt", "yuv420p",
+               # One encoder thread: x264/x265 output depends on the thread count, so
+               # this keeps the MP4 bytes identical across machines.
+               "-threads", "1", "-preset", "medium", "-crf", str(crf), "-pix_fmt", "yuv420p",
                "-fflags", "+bitexact", "-flags:v", "+bitexact", "-map_metadata", "-1",
                "-movflags", "+faststart"]
         if codec == "hevc":
-            cmd += ["-tag:v", "hvc1", "-x265-params", "log-level=error"]
+            cmd += ["-tag:v", "hvc1", "-x265-params", "log-level=error:pools=1:frame-threads=1"]
         cmd += [str(path)]
         self.path = path
         self.proc = subprocess.Popen(cmd, stdin=subprocess.PIPE)

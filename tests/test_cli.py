@@ -1,0 +1,198 @@
+"""The command line end to end: help, pose, analyse with a client, history, export,
+forget, interruption, concurrency and no network."""
+
+from __future__ import annotations
+
+import json
+import os
+import signal
+import sqlite3
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pandas as pd
+import pytest
+
+from lean_video import __version__
+from tests.conftest import DEMO, REPO
+
+WALKER = DEMO / "HP-014_2026-09-01.mp4"
+LATER = DEMO / "HP-014_2026-10-13.mp4"
+
+
+def cli(*args: str, data_dir: Path | None = None, env: dict | None = None, **kw) -> subprocess.CompletedProcess:
+    full_env = {**os.environ, **(env or {})}
+    if data_dir is not None:
+        full_env["LEAN_VIDEO_DATA_DIR"] = str(data_dir)
+    return subprocess.run([sys.executable, "-m", "lean_video.cli", *args], capture_output=True, text=True,
+                          env=full_env, timeout=900, **kw)
+
+
+def sessions(data_dir: Path) -> list[tuple]:
+    with sqlite3.connect(data_dir / "lean_video.sqlite3") as conn:
+        return conn.execute("SELECT client_id, date_filmed, clip_sha256 FROM sessions ORDER BY id").fetchall()
+
+
+def test_help_and_version():
+    out = cli("--help")
+    assert out.returncode == 0
+    for command in ("analyse", "check", "pose", "history", "hip-model", "export", "forget", "clients"):
+        assert command in out.stdout
+    version = cli("--version")
+    assert version.returncode == 0 and __version__ in version.stdout
+
+
+def test_missing_clip_one_line_no_traceback(tmp_path):
+    out = cli("pose", str(tmp_path / "absent.mp4"), "--out", str(tmp_path / "o"))
+    assert out.returncode != 0
+    assert "Traceback" not in out.stderr
+    assert out.stderr.strip().splitlines()[-1].startswith("lean-video: error: Clip not found")
+
+
+def test_hip_model_json_matches_library():
+    from lean_video.mechanics import hip_model_table
+
+    out = cli("hip-model", "--mass-kg", "70", "--height-m", "1.75", "--lean-deg", "0", "5", "10", "--json")
+    assert out.returncode == 0, out.stderr
+    rows = json.loads(out.stdout)
+    assert [r["lean_deg"] for r in rows] == [0.0, 5.0, 10.0]
+    expected = hip_model_table([0, 5, 10], mass_kg=70, height_m=1.75)
+    assert rows[1]["hip_force_bw"] == pytest.approx(expected[1]["hip_force_bw"])
+    table = cli("hip-model", "--mass-kg", "70", "--lean-deg", "4")
+    assert "simplified static model" in table.stdout and "not to diagnose" in table.stdout
+
+
+@pytest.mark.slow
+def test_pose_command_writes_handover(tmp_path):
+    out = cli("pose", str(WALKER), "--out", str(tmp_path))
+    assert out.returncode == 0, out.stderr
+    table = pd.read_csv(tmp_path / "keypoints.csv")
+    clip = json.loads((tmp_path / "clip.json").read_text())
+    assert list(table.columns) == ["frame", "time_s", "landmark", "x_px", "y_px", "z", "visibility", "presence"]
+    assert {"width", "height", "fps", "duration_s", "rotation_deg"} <= clip.keys()
+    assert (clip["width"], clip["height"]) == (720, 1280)
+    # The hand-over folder is accepted by analyse in place of the video.
+    res = cli("analyse", str(tmp_path), "--out", str(tmp_path / "from_keypoints"))
+    assert res.returncode == 0, res.stderr
+    summary = json.loads((tmp_path / "from_keypoints" / "summary.json").read_text())
+    assert summary["camera_roll_source"] == "none"
+
+
+@pytest.mark.slow
+def test_analyse_store_history_export_forget(tmp_path):
+    data, out = tmp_path / "db", tmp_path / "out"
+    first = cli("analyse", str(WALKER), "--out", str(out / "a"), "--client", "HP-077", "--date", "2026-09-01",
+                "--mass-kg", "80", "--height-m", "1.70", "--notes", "=cmd|' /C calc'!A0 <script>x</script>",
+                data_dir=data)
+    assert first.returncode == 0, first.stderr
+    for name in ("frames.csv", "events.csv", "strides.csv", "summary.json", "report.html"):
+        assert (out / "a" / name).exists(), name
+    summary = json.loads((out / "a" / "summary.json").read_text())
+    assert summary["clip"]["sha256"] and summary["version"] == __version__
+    assert summary["settings"]["analysis"]["mass_kg"] == 80
+    strides = pd.read_csv(out / "a" / "strides.csv")
+    for col in ("lever_arm_cm", "lever_arm_shortening_cm", "lever_arm_shortening_pct", "abductor_force_bw",
+                "hip_force_bw", "hip_force_change_pct", "hip_force_n"):
+        assert col in strides.columns
+    html = (out / "a" / "report.html").read_text()
+    assert "<script>x</script>" not in html
+    # Same clip again: the session is replaced, not duplicated; mass and height are remembered.
+    again = cli("analyse", str(WALKER), "--out", str(out / "a"), "--client", "HP-077", "--date", "2026-09-01",
+                data_dir=data)
+    assert again.returncode == 0, again.stderr
+    assert "replaced" in again.stderr
+    later = cli("analyse", str(LATER), "--out", str(out / "b"), "--client", "HP-077", "--date", "2026-10-13",
+                data_dir=data)
+    assert later.returncode == 0, later.stderr
+    assert len(sessions(data)) == 2
+    assert json.loads((out / "b" / "summary.json").read_text())["settings"]["analysis"]["mass_kg"] == 80
+    hist = cli("history", "HP-077", "--out", str(out), data_dir=data)
+    assert hist.returncode == 0, hist.stderr
+    assert (out / "history.html").exists()
+    listing = cli("clients", data_dir=data)
+    assert "HP-077" in listing.stdout and "2026-10-13" in listing.stdout
+    exp = cli("export", "HP-077", "--out", str(out / "export"), data_dir=data)
+    assert exp.returncode == 0, exp.stderr
+    client_json = json.loads((out / "export" / "HP-077_client.json").read_text())
+    assert client_json["client"]["notes"].startswith("=cmd")
+    import csv
+
+    with open(out / "export" / "HP-077_client.csv", newline="", encoding="utf-8") as handle:
+        row = next(csv.DictReader(handle))
+    # OWASP "CSV Injection" guidance: a leading apostrophe stops spreadsheets running the cell.
+    assert row["notes"].startswith("'=cmd")
+    refused = cli("forget", "HP-077", data_dir=data, stdin=subprocess.DEVNULL)
+    assert refused.returncode != 0 and "--yes" in refused.stderr
+    gone = cli("forget", "HP-077", "--yes", data_dir=data)
+    assert gone.returncode == 0, gone.stderr
+    assert sessions(data) == []
+    assert not (out / "history.html").exists() and not (out / "a" / "report.html").exists()
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("sig", [signal.SIGINT, signal.SIGKILL])
+def test_interrupted_run_leaves_nothing_half_written(tmp_path, sig):
+    data, out = tmp_path / "db", tmp_path / "out"
+    env = {**os.environ, "LEAN_VIDEO_DATA_DIR": str(data), "LEAN_VIDEO_CACHE_DIR": str(tmp_path / "fresh_cache")}
+    proc = subprocess.Popen([sys.executable, "-m", "lean_video.cli", "analyse", str(WALKER), "--out", str(out),
+                             "--client", "HP-050", "--date", "2026-09-01"], env=env,
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, start_new_session=True)
+    time.sleep(4.0)  # well inside pose estimation
+    assert proc.poll() is None, "the run finished before it could be interrupted"
+    os.killpg(proc.pid, sig)
+    _, err = proc.communicate(timeout=60)
+    if sig == signal.SIGINT:
+        assert proc.returncode == 130
+        assert "Traceback" not in err and "interrupted" in err
+    else:
+        assert proc.returncode == -signal.SIGKILL
+    assert not (out / "report.html").exists() and not (out / "summary.json").exists()
+    if (data / "lean_video.sqlite3").exists():
+        assert sessions(data) == []
+
+
+@pytest.mark.slow
+def test_two_clients_at_once_and_same_clip_twice(tmp_path):
+    data = tmp_path / "db"
+    env = {**os.environ, "LEAN_VIDEO_DATA_DIR": str(data)}
+
+    def start(client: str, clip: Path, out: str) -> subprocess.Popen:
+        return subprocess.Popen([sys.executable, "-m", "lean_video.cli", "analyse", str(clip), "--out",
+                                 str(tmp_path / out), "--client", client, "--date", "2026-09-01"],
+                                env=env, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+
+    procs = [start("HP-101", WALKER, "a"), start("HP-102", LATER, "b"), start("HP-101", WALKER, "c")]
+    for p in procs:
+        _, err = p.communicate(timeout=600)
+        assert p.returncode == 0, err
+    stored = sessions(data)
+    assert sorted(c for c, _, _ in stored) == ["HP-101", "HP-102"]
+
+
+@pytest.mark.slow
+def test_demo_runs_with_network_blocked(tmp_path):
+    """The whole demo with socket creation made impossible in every process."""
+    site = tmp_path / "site"
+    site.mkdir()
+    (site / "sitecustomize.py").write_text(
+        "import socket\n"
+        "class _NoNetwork(socket.socket):\n"
+        "    def __init__(self, *a, **k):\n"
+        "        raise OSError('network disabled for this test')\n"
+        "socket.socket = _NoNetwork\n"
+        "socket.create_connection = lambda *a, **k: (_ for _ in ()).throw(OSError('network disabled'))\n"
+    )
+    env = {**os.environ, "PYTHONPATH": f"{site}{os.pathsep}{REPO}"}
+    code = ("import sys; from pathlib import Path; from tools.demo import run; "
+            f"sys.exit(run(Path({str(tmp_path / 'demo')!r})))")
+    proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, env=env, cwd=REPO,
+                          timeout=1200)
+    assert proc.returncode == 0, proc.stderr[-3000:]
+    from tests.test_report import assert_no_external_reference
+
+    reports = sorted((tmp_path / "demo").glob("*/report.html"))
+    assert len(reports) == 4
+    for page in [tmp_path / "demo" / "history.html", *reports]:
+        assert_no_external_reference(page.read_text(encoding="utf-8"))
