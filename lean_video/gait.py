@@ -228,6 +228,14 @@ def analyse_keypoints(
     contact_points : {"centroid", "each"}, keyword-only
         Detect contact on the mean of heel, ankle and foot index (less noisy),
         or on each point with a foot-flat rule.
+    foot_centre_timing : bool, keyword-only
+        Re-time the event the frontal view hides (toward: foot off, away: foot
+        strike) from turning points of the foot's image motion, see
+        :func:`lean_video.gait_events.foot_centre_events`.
+    foot_centre_cutoff_hz : float, keyword-only
+        Low-pass cut-off of the foot points used for that re-timing (higher
+        than ``event_cutoff_hz`` so the turning points stay sharp; common
+        practice, no source).
 
     Returns
     -------
@@ -252,6 +260,8 @@ def analyse_keypoints(
         raise LeanVideoError(f"camera_roll_deg must lie within -45..45 degrees, got {camera_roll_deg}; level the phone or measure its roll.")
     if contact_points not in ("centroid", "each"):
         raise LeanVideoError(f"contact_points must be 'centroid' or 'each', got {contact_points!r}; use 'centroid'.")
+    if not foot_centre_cutoff_hz > 0:
+        raise LeanVideoError(f"foot_centre_cutoff_hz must be positive, got {foot_centre_cutoff_hz}; use 10 Hz.")
     if not 0 < contact_on_fraction <= contact_off_fraction < 1:
         raise LeanVideoError(f"contact fractions must satisfy 0 < on <= off < 1, got {contact_on_fraction} and {contact_off_fraction}; use 0.2 and 0.3.")
     settings = dict(
@@ -262,6 +272,8 @@ def analyse_keypoints(
         contact_off_fraction=float(contact_off_fraction), min_phase_s=float(min_phase_s),
         max_phase_s=float(max_phase_s), max_missing_fraction=float(max_missing_fraction),
         footprint_tolerance=float(footprint_tolerance), contact_points=contact_points,
+        foot_centre_timing=bool(foot_centre_timing),
+        foot_centre_cutoff_hz=float(foot_centre_cutoff_hz),
         filter="Butterworth order 2 per pass, sosfiltfilt (zero lag), per valid segment on a uniform grid",
     )
     frame, time_s, raw = keypoints_to_track(keypoints, min_visibility=min_visibility)
@@ -270,7 +282,10 @@ def analyse_keypoints(
         ev_track = filtered
     else:
         ev_track = clean_track(raw, time_s, max_gap_s=max_gap_s, cutoff_hz=event_cutoff_hz)[0]
-    fc_track = clean_track(raw, time_s, max_gap_s=max_gap_s, cutoff_hz=foot_centre_cutoff_hz)[0]
+    # keep the re-timing filter below Nyquist on low frame rates (0.4 fs, common practice, no source)
+    fc_cutoff_hz = min(foot_centre_cutoff_hz, 0.4 / float(np.median(np.diff(time_s))))
+    fc_track = ev_track if fc_cutoff_hz == event_cutoff_hz else clean_track(
+        raw, time_s, max_gap_s=max_gap_s, cutoff_hz=fc_cutoff_hz)[0]
     direction, slope, warnings = walking_direction(filled, time_s)
     (filtered, ev_track, fc_track), n_relabel = assign_client_sides(
         [filtered, ev_track, fc_track], direction)

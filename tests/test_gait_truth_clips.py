@@ -54,20 +54,23 @@ def test_direction(clip):
     assert r.summary["direction"] == d["direction"]
 
 
-# Measured (ideal keypoints, 30 fps). Walking toward (HP-014 sessions, no_lean,
-# symmetric_lean, camera_roll): foot strike median -13..0 ms, max 23 ms; foot
-# off median +58..+64 ms, max 81 ms: the toe slides forward along the floor
-# after foot off and, seen from the front, moves only 1-2 px per frame (see
-# lean_video.gait_events). Walking away the mirror image: foot off median
-# -10 ms, max 17 ms; foot strike median -87 ms, max 130 ms.
-# Issue target: median <= 33 ms, none > 3 frames (met only for the well-seen event).
+# Measured (ideal keypoints). Walking toward (HP-014 sessions, no_lean,
+# symmetric_lean, camera_roll, portrait_rotated, hevc_60fps): foot strike
+# median -13..0 ms, max 23 ms; foot off median -20..-7 ms, max 37 ms (foot
+# off re-timed from the foot centre's upward velocity peak; from the toe's
+# footprint departure alone it was +58..+67 ms, max 87 ms). Walking away:
+# foot off median -10 ms, max 17 ms; foot strike median -36 ms, max 52 ms
+# (heel's highest image point; from the footprint arrival alone -87 ms, max
+# 130 ms), see lean_video.gait_events.foot_centre_events.
+# Issue target: median <= 33 ms, none > 3 frames: met except away foot strike
+# (bound: measured plus about half a frame).
 def test_event_timing(clip):
     d, r = clip
     t_end = d["per_frame"]["time_s"][-1]
     fps = d["fps"]
-    hard = "foot_off" if d["direction"] == "toward" else "foot_strike"
+    hard = None if d["direction"] == "toward" else "foot_strike"
     for event, key in (("foot_strike", "foot_strike_s"), ("foot_off", "foot_off_s")):
-        med_ms, max_s = (100, 0.15) if event == hard else (33, 3 / fps)
+        med_ms, max_s = (50, 0.07) if event == hard else (33, 3 / fps)
         truth = pd.DataFrame([(t, side, event) for side in ("left", "right")
                               for t in d["events"][key][side] if 0.1 < t < t_end - 0.1],
                              columns=["time_s", "side", "event"])

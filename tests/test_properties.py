@@ -1,0 +1,109 @@
+"""Property tests (hypothesis): damaged keypoint tracks and extreme inputs never crash the
+gait and mechanics stages, and never give a NaN in a summary without a warning."""
+
+from __future__ import annotations
+
+import json
+import math
+
+import numpy as np
+import pandas as pd
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from lean_video.errors import LeanVideoError
+from lean_video.gait import analyse_keypoints
+from lean_video.mechanics import hip_model_table
+from tests.gait_walker import make_walk
+
+BASE = make_walk(noise_px=0.5, seed=11)
+
+
+def _nones(value, path=""):
+    """Paths of every None inside a JSON-like structure."""
+    if value is None:
+        yield path
+    elif isinstance(value, dict):
+        for k, v in value.items():
+            yield from _nones(v, f"{path}.{k}")
+    elif isinstance(value, list):
+        for i, v in enumerate(value):
+            yield from _nones(v, f"{path}[{i}]")
+
+
+@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(
+    drop_fraction=st.floats(0.0, 0.6),
+    nan_fraction=st.floats(0.0, 0.4),
+    gap_start=st.floats(0.0, 1.0),
+    gap_len_s=st.floats(0.0, 2.0),
+    jitter_s=st.floats(0.0, 0.012),
+    scale=st.sampled_from([1e-3, 1.0, 1e3]),
+    seed=st.integers(0, 10_000),
+)
+def test_gait_survives_damage(drop_fraction, nan_fraction, gap_start, gap_len_s, jitter_s, scale, seed):
+    rng = np.random.default_rng(seed)
+    kp = BASE.keypoints.copy()
+    frames = kp["frame"].unique()
+    times = kp.groupby("frame")["time_s"].first()
+    # Irregular timestamps (kept increasing), dropped frames, a long gap and scattered NaNs.
+    new_t = times.to_numpy() + rng.uniform(-jitter_s, jitter_s, len(times))
+    new_t = np.maximum.accumulate(new_t + np.arange(len(new_t)) * 1e-6)
+    kp["time_s"] = kp["frame"].map(dict(zip(times.index, new_t)))
+    dropped = frames[rng.random(len(frames)) < drop_fraction]
+    t0 = new_t[0] + gap_start * (new_t[-1] - new_t[0])
+    gap = (kp["time_s"] >= t0) & (kp["time_s"] < t0 + gap_len_s)
+    mask = kp["frame"].isin(dropped) | gap | (rng.random(len(kp)) < nan_fraction)
+    kp.loc[mask, ["x_px", "y_px", "visibility"]] = np.nan
+    kp[["x_px", "y_px"]] *= scale
+    try:
+        result = analyse_keypoints(kp, width=max(1, int(BASE.width * scale)), height=max(1, int(BASE.height * scale)))
+    except LeanVideoError as exc:
+        assert str(exc) and "\n" not in str(exc)
+        return
+    text = json.dumps(result.summary, allow_nan=False)  # a NaN or inf here raises
+    assert text
+    missing = [p for p in _nones(result.summary) if not p.startswith(".settings")]
+    if missing:
+        assert result.summary["quality"]["warnings"], f"None without a warning: {missing[:5]}"
+    for col in ("lean_mean_deg", "duration_s"):
+        assert result.strides[col].notna().all()
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    lean=st.one_of(st.floats(-90, 90), st.sampled_from([math.nan, math.inf, -math.inf])),
+    drop=st.floats(-40, 40),
+    mass=st.one_of(st.none(), st.floats(-100, 1000)),
+    height=st.floats(-1, 5),
+    cane=st.floats(-10, 80),
+)
+def test_hip_model_never_returns_nan(lean, drop, mass, height, cane):
+    try:
+        rows = hip_model_table([lean], mass_kg=mass, height_m=height, pelvic_drop_deg=drop, cane_pct_bw=cane)
+    except LeanVideoError as exc:
+        assert str(exc) and "\n" not in str(exc)
+        return
+    for row in rows:
+        for key, value in row.items():
+            assert value is not None and math.isfinite(value), (key, value)
+
+
+def test_property_base_walk_is_analysable():
+    # Guard: the undamaged walk itself must analyse, or the properties above test nothing.
+    result = analyse_keypoints(BASE.keypoints, width=BASE.width, height=BASE.height)
+    assert result.summary["sides"]["left"]["n_phases"] >= 3
+    assert isinstance(result.strides, pd.DataFrame)
+
+
+@pytest.mark.parametrize("bad_time", [np.nan, np.inf])
+def test_non_finite_timestamps_are_refused_or_flagged(bad_time):
+    kp = BASE.keypoints.copy()
+    kp.loc[kp["frame"] == 5, "time_s"] = bad_time
+    try:
+        result = analyse_keypoints(kp, width=BASE.width, height=BASE.height)
+    except LeanVideoError as exc:
+        assert "time" in str(exc).lower()
+        return
+    json.dumps(result.summary, allow_nan=False)
