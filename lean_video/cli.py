@@ -70,12 +70,21 @@ def cmd_hip_model(args: argparse.Namespace) -> int:
         args.lean_deg, mass_kg=args.mass_kg, height_m=args.height_m, pelvic_drop_deg=args.pelvic_drop_deg,
         cane_pct_bw=args.cane_pct_bw, cane_distance_cm=args.cane_distance_cm, overrides=overrides,
     )
+    params = mechanics.HipModelParams.from_body(height_m=args.height_m, **overrides)
+    band = mechanics.monte_carlo(args.lean_deg, params=params, pelvic_drop_deg=args.pelvic_drop_deg,
+                                 cane_pct_bw=args.cane_pct_bw, cane_distance_cm=args.cane_distance_cm,
+                                 mass_kg=args.mass_kg)
+    for i, row in enumerate(rows):
+        for name in ("hip_force_bw", "hip_force_change_pct"):
+            row[f"{name}_p05"], row[f"{name}_p95"] = float(band.p05[name][i]), float(band.p95[name][i])
     if args.json:
         print(json.dumps(rows, indent=2))
     else:
         table = pd.DataFrame(rows).set_index("lean_deg")
         print(table.to_string(float_format=lambda v: f"{v:.2f}"))
         print()
+        print("_p05/_p95: 5-95 % band over published ranges of body proportions and muscle geometry "
+              f"(Monte Carlo, {band.n_draws} draws, seed {band.seed}).")
         print(mechanics.CAUTION)
     return 0
 
@@ -350,6 +359,10 @@ def main(argv: list[str] | None = None) -> int:
             raise
         print(f"lean-video: error: {exc}", file=sys.stderr)
         return exc.exit_code
+    except BrokenPipeError:
+        # The reader went away (e.g. piped into 'head'): not an error of ours.
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 0
     except KeyboardInterrupt:
         print("lean-video: interrupted; nothing was stored for this run.", file=sys.stderr)
         return EXIT_INTERRUPTED

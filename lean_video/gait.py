@@ -36,9 +36,10 @@ from scipy import stats
 from lean_video.errors import LeanVideoError
 from lean_video.gait_clean import clean_track, keypoints_to_track
 from lean_video.gait_events import (
-    assign_client_sides, body_height_px, detect_contacts, foot_centre_events, foot_speeds,
+    assign_client_sides, body_height_px, detect_contacts, foot_speeds,
     refine_event_times, smooth_body_height, walking_direction,
 )
+from lean_video.gait_frontal import drop_short_contacts, foot_centre_events
 
 log = logging.getLogger(__name__)
 
@@ -117,13 +118,15 @@ def _phases(intervals, time_s, lean, obliq, *, min_phase_s, max_phase_s,
             max_missing_fraction, frame_s):
     """Single-support phases from events: other foot's foot off -> its next foot strike.
 
-    The stance foot must be in contact over the whole phase (within three
-    frame intervals: event timing errs by a frame or two); phases cut by the clip/tracking edges, too short or
+    The stance foot must be in contact over the whole phase, within a slack
+    of three frame intervals or 0.1 s, whichever is longer (pose-model event
+    timing errs by up to about 0.1 s whatever the frame rate, as measured on
+    the rendered clips); phases cut by the clip/tracking edges, too short or
     too long, or with too few frames with hips and shoulders are dropped with
     a reason.
     """
     rows, drops = [], []
-    slack_s = 3 * frame_s
+    slack_s = max(3 * frame_s, 0.1)
     for stance, swing in (("left", "right"), ("right", "left")):
         sw = sorted(intervals[swing], key=lambda iv: iv[0])
         st = intervals[stance]
@@ -231,7 +234,7 @@ def analyse_keypoints(
     foot_centre_timing : bool, keyword-only
         Re-time the event the frontal view hides (toward: foot off, away: foot
         strike) from turning points of the foot's image motion, see
-        :func:`lean_video.gait_events.foot_centre_events`.
+        :func:`lean_video.gait_frontal.foot_centre_events`.
     foot_centre_cutoff_hz : float, keyword-only
         Low-pass cut-off of the foot points used for that re-timing (higher
         than ``event_cutoff_hz`` so the turning points stay sharp; common
@@ -304,6 +307,10 @@ def analyse_keypoints(
         if footprint_tolerance > 0:
             intervals[side], _ = refine_event_times(
                 ev_track, time_s, side, scale, intervals[side], floor_fraction=footprint_tolerance)
+    n_short = 0
+    for side in SIDES:
+        intervals[side], n = drop_short_contacts(intervals[side])
+        n_short += n
     if foot_centre_timing:
         intervals = {side: foot_centre_events(
             fc_track, time_s, side, intervals[side], direction=direction,
@@ -373,6 +380,7 @@ def analyse_keypoints(
             "n_valid_frames": int(frames["valid"].sum()),
             "n_label_swaps_repaired": int(n_swaps),
             "n_side_relabellings": int(n_relabel),
+            "n_short_contacts_dropped": int(n_short),
             "log_size_slope_per_s": None if not np.isfinite(slope) else float(slope),
             "dropped_phases": drops,
             "n_dropped_phases": len(drops),

@@ -27,14 +27,18 @@ image. Three stages:
    a rule), foot off the latest departure (the toe), interpolated between
    frames.
 
-3. *Frontal-view correction* (:func:`foot_centre_events`): walking toward
+3. *Frontal-view correction* (:mod:`lean_video.gait_frontal`): walking toward
    the camera the swing toe's lift (image up) and approach (image down)
    cancel for a few frames after foot off, so the footprint departure is
    late (about +60 ms on the rendered clips); walking away the landing
    heel's descent and recession cancel before foot strike (about -90 ms).
    These two events are re-timed from turning points of the foot's image
-   motion. Remaining (measured, see tests): walking away foot strike is
-   still about one frame early.
+   motion. Fully seen contacts much shorter than the foot's typical stance
+   (a swing foot pausing in the image) are dropped first
+   (``drop_short_contacts``). Remaining (measured): on pose-model
+   keypoints walking toward the camera foot strike is found late (median
+   about +45..+75 ms on the rendered clips): the model's heel, hidden behind
+   the foot in a front view, settles only when the toes land.
 """
 
 from __future__ import annotations
@@ -49,8 +53,6 @@ from lean_video.gait_clean import PAIRS, SWAP_GROUPS, finite_segments, lowpass_i
 log = logging.getLogger(__name__)
 
 FOOT_POINTS = ("heel", "ankle", "foot_index")
-import os
-HALF = os.environ.get('HALF') == '1'
 
 
 def _mid(track, part):
@@ -407,120 +409,3 @@ def refine_event_times(
             t_o = max(departures)[0]
         out.append((float(t_s), float(t_o), i0, i1, s_seen, o_seen))
     return out, sigma
-
-
-
-def _peak_time(t, s, i):
-    """Sub-frame time of the local maximum of s at sample i (parabola through i-1, i, i+1)."""
-    if i <= 0 or i >= len(s) - 1 or not np.all(np.isfinite(s[i - 1:i + 2])):
-        return float(t[i])
-    den = s[i - 1] - 2 * s[i] + s[i + 1]
-    f = 0.0 if den >= 0 else float(np.clip(0.5 * (s[i - 1] - s[i + 1]) / den, -0.5, 0.5))
-    return float(t[i] + f * (t[i + 1] - t[i] if f > 0 else t[i] - t[i - 1]))
-
-
-def foot_centre_events(
-    track: dict[str, np.ndarray], time_s: np.ndarray, side: str, intervals: list, *,
-    direction: str, other_intervals: list = (), camera_roll_deg: float = 0.0,
-    window_before_s: float = 0.25, window_after_s: float = 0.07, strike_window_s: float = 0.17,
-) -> list:
-    """Re-time the event the frontal view hides, from turning points of the foot's image motion.
-
-    Seen along the walking line a point's image row mixes its height and its
-    distance: lifting moves it up, approaching the camera moves it down (for
-    a camera above the floor, Hartley & Zisserman 2004, Multiple View
-    Geometry, 2nd ed., ground-plane projection, from memory). Walking toward
-    the camera the swing toe's lift and approach cancel for a few frames
-    after foot off, so its departure from the footprint is seen late; walking
-    away the landing heel's descent and recession cancel before foot strike,
-    so its arrival is seen early. The other event of each pair is well seen
-    and is left alone. Instead of the footprint, two turning points time the
-    hidden event:
-
-    * toward, foot off: the peak upward image velocity of the foot centre,
-      the midpoint of heel and toe (foot-velocity algorithm, O'Connor et al.
-      2007, Gait & Posture 25:469-474, from memory). The heel rises fast while
-      the foot rolls over the toe, and the approach (image down) turns the
-      foot centre over right after foot off. Searched within
-      ``[t_off - window_before_s, t_off + window_after_s]`` of the
-      position-based foot off, but not before the other foot's last foot
-      strike: a foot leaves the floor only after the other one has landed
-      (double support, about 10 % of the cycle each; Perry & Burnfield 2010,
-      Gait Analysis, 2nd ed., ch. 1, from memory).
-    * away, foot strike: the heel's highest image point. While the heel
-      recedes it rises in the image; once it is on the floor it stops, so
-      the turning point is the end of its recession (the heel's extreme
-      position, cf. the coordinate method of Zeni et al. 2008, Gait &
-      Posture 27:710-714, from memory). Only the last ~1 cm of descent comes
-      after it, so it is still early by about one frame (measured).
-      Searched within ``[t_strike - window_after_s, t_strike +
-      strike_window_s]`` and not after the other foot's next foot off.
-
-    Turning points are interpolated to sub-frame time by a parabola through
-    three samples. Where there is no interior turning point in the window, or
-    the points are not tracked, the position-based time is kept. Window sizes
-    are common practice, no source (chosen on the synthetic walker and
-    rendered clips, checked on the lab data).
-
-    Parameters
-    ----------
-    track : dict of ndarray (n, 2)
-        Client-side labelled positions, low-passed (a cut-off near 10 Hz keeps
-        the turning points sharp).
-    time_s : ndarray (n,)
-    side : {"left", "right"}
-    intervals, other_intervals : list
-        Contact intervals of this foot and of the other foot, layout of
-        :func:`detect_contacts`.
-    direction : {"toward", "away"}, keyword-only
-    camera_roll_deg : float, keyword-only
-        Image "up" follows the rolled world vertical (see :mod:`lean_video.gait`).
-
-    Returns
-    -------
-    intervals : list
-        Same layout as :func:`detect_contacts`.
-    """
-    k = 0 if side == "left" else 1
-    heel, toe = track[PAIRS["heel"][k]], track[PAIRS["foot_index"][k]]
-    r = np.radians(camera_roll_deg)
-    up = np.array([np.sin(r), -np.cos(r)])
-    centre = (heel + toe) / 2 @ up
-    v_up = np.gradient(centre, time_s)
-    heel_up = heel @ up
-    out = []
-    for t_s, t_o, i0, i1, s_seen, o_seen in intervals:
-        if s_seen and direction == "away":
-            hi = t_s + strike_window_s
-            later = [iv[1] for iv in other_intervals if iv[5] and t_s < iv[1] < t_s + 2 * strike_window_s]
-            if later:
-                hi = min(hi, min(later))
-            sel = np.flatnonzero((time_s >= t_s - window_after_s) & (time_s <= hi))
-            sel = sel[np.isfinite(heel_up[sel])]
-            if len(sel) >= 3:
-                j = sel[np.argmax(heel_up[sel])]
-                if sel[0] < j < sel[-1]:
-                    t_s = min(_peak_time(time_s, heel_up, j), t_o)
-                    if HALF:
-                        rest = (time_s > t_s + 0.1) & (time_s < t_s + 0.3) & np.isfinite(heel_up)
-                        if rest.sum() >= 3:
-                            level = (heel_up[j] + np.median(heel_up[rest])) / 2
-                            m = j
-                            while m + 1 < len(time_s) and heel_up[m + 1] > level and time_s[m + 1] < t_s + 0.1:
-                                m += 1
-                            if m + 1 < len(time_s) and heel_up[m + 1] <= level < heel_up[m]:
-                                f = (heel_up[m] - level) / (heel_up[m] - heel_up[m + 1])
-                                t_s = min(float(time_s[m] + f * (time_s[m + 1] - time_s[m])), t_o)
-        if o_seen and direction == "toward":
-            lo = t_o - window_before_s
-            prior = [iv[0] for iv in other_intervals if iv[4] and t_o - 2 * window_before_s < iv[0] < t_o]
-            if prior:
-                lo = max(lo, max(prior))
-            sel = np.flatnonzero((time_s >= lo) & (time_s <= t_o + window_after_s))
-            sel = sel[np.isfinite(v_up[sel])]
-            if len(sel) >= 3:
-                j = sel[np.argmax(v_up[sel])]
-                if sel[0] < j < sel[-1] and v_up[j] > 0:
-                    t_o = max(_peak_time(time_s, v_up, j), t_s)
-        out.append((t_s, t_o, i0, i1, s_seen, o_seen))
-    return out

@@ -165,6 +165,9 @@ def analyse(
     summary["quality"] = quality
     params = mechanics.HipModelParams.from_body(height_m=options.height_m or mechanics.DEFAULT_HEIGHT_M)
     curve = mechanics.lean_sweep(params=params, mass_kg=options.mass_kg)
+    for side in ("left", "right"):
+        summary["sides"][side]["hip_model_band_5_95"] = _band(mechanics, summary["sides"][side], params,
+                                                              options.mass_kg)
     return Analysis(result.frames, result.events, strides, _json_ready(summary), keypoints, video, curve)
 
 
@@ -180,6 +183,15 @@ def _stabilised(keypoints: pd.DataFrame, motion) -> pd.DataFrame:
     log.info("keypoints stabilised for camera motion (up to %.1f deg, %.1f%% of the picture)",
              motion.max_rotation_deg, 100 * motion.max_translation_frac)
     return out
+
+
+def _band(mechanics, side: dict, params, mass_kg) -> dict | None:
+    """Seeded Monte Carlo 5-95 % band of each hip-model output at this side's median lean and drop."""
+    lean, drop = side.get("lean_mean_deg"), side.get("pelvic_drop_mean_deg")
+    if lean is None or not np.isfinite(lean):
+        return None
+    mc = mechanics.monte_carlo([float(lean)], params=params, pelvic_drop_deg=float(drop or 0.0), mass_kg=mass_kg)
+    return {name: [float(mc.p05[name][0]), float(mc.p95[name][0])] for name in mc.p05}
 
 
 def _mech_side(side: dict) -> dict:

@@ -93,8 +93,9 @@ def test_event_timing_against_annotations(lab):
 
 
 def test_inner_single_support_phases_found(lab):
-    # Measured: toward 16 of 17 inner phases, away 13 of 17 (phases next to a
-    # dropped partial step at the start/end of a pass are lost).
+    # Measured: toward 16 of 17 inner phases, away 15 of 17 (13 before short
+    # mid-swing "contacts" were dropped; the lost phases sit next to a partial
+    # step at the start/end of a pass).
     direction, (_, found, truth, _) = lab
     hits = 0
     for _, p in truth.iterrows():
@@ -103,7 +104,7 @@ def test_inner_single_support_phases_found(lab):
         if len(hit):
             assert hit["stance_side"].iloc[0] == p["stance_side"]
             hits += 1
-    assert hits >= (15 if direction == "toward" else 12)
+    assert hits >= (15 if direction == "toward" else 14)
 
 
 def test_per_side_lean_and_drop_against_3d(lab):

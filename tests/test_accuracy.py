@@ -1,0 +1,98 @@
+"""Accuracy of the whole analysis on the rendered truth clips (exact ground truth).
+
+Video -> pose -> gait -> mechanics, compared with the renderer's truth. Targets
+are the gait-signal issue's: per-side mean lean within 1.0 deg, each phase's
+mean lean within 2.0 deg, events with a median error of one frame (33 ms at
+30 fps) and none beyond three, every steady single-support phase found, pelvic
+drop within 1.5 deg. Where the pipeline does not meet a target yet, the test
+of the target is marked ``xfail(strict=True)`` beside a test of what is
+measured today, so an improvement turns the suite red until the bound is
+tightened. Measured numbers are in the comments (``tools/eval_accuracy.py``
+prints them all).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from tests.conftest import demo_manifest
+from tools.eval_accuracy import evaluate
+
+pytestmark = pytest.mark.slow
+CLIPS = [c["name"] for c in demo_manifest()["clips"]]
+_ROWS: dict[str, dict] = {}
+
+
+def row(name: str) -> dict:
+    if name not in _ROWS:
+        _ROWS[name] = evaluate(name)
+    return _ROWS[name]
+
+
+@pytest.mark.parametrize("name", CLIPS)
+def test_direction_roll_and_lean(name):
+    r = row(name)
+    assert r["direction"] == r["direction_true"]
+    # Camera roll from the room's verticals, within 0.5 deg (issue target; measured <= 0.35).
+    assert r["roll"] == pytest.approx(r["roll_true"], abs=0.5)
+    for side in ("left", "right"):
+        err = r[f"{side}_lean_err"]
+        if r[f"{side}_lean_true"] is None or err is None:
+            continue
+        # Measured today: |error| <= 1.33 deg over all clips (target 1.0, see below).
+        assert abs(err) <= 1.5, (side, err)
+    if r["phase_lean_err_max"] is not None:
+        # Each matched phase's mean lean within 2.0 deg (issue target; measured <= 1.92).
+        assert r["phase_lean_err_max"] <= 2.0
+
+
+@pytest.mark.parametrize("name", CLIPS)
+def test_phases_found(name):
+    r = row(name)
+    # Measured: at most 2 steady phases missed and 1 spurious per clip.
+    assert r["phases_matched"] >= r["phases_true"] - 2
+    assert r["phases_found"] - r["phases_matched"] <= 1
+
+
+def test_walking_away_assigns_sides():
+    r = row("truth_walk_away")
+    assert r["direction"] == "away"
+    # The larger lean belongs to the right stance side in truth; it must be found there.
+    assert abs(r["right_lean_err"]) <= 1.5 and abs(r["left_lean_err"]) <= 1.5
+
+
+@pytest.mark.parametrize("name", [n for n in CLIPS if n != "truth_walk_away"])
+def test_foot_off_timing_toward(name):
+    r = row(name)
+    # Foot off, walking toward: measured median 11-85 ms (target 33 ms).
+    assert r["foot_off_median_ms"] <= 90
+
+
+@pytest.mark.xfail(strict=True, reason="target not met yet: per-side lean error up to 1.33 deg (see note)")
+def test_target_per_side_lean_within_one_degree():
+    errs = [abs(row(n)[f"{s}_lean_err"]) for n in CLIPS for s in ("left", "right")
+            if row(n)[f"{s}_lean_err"] is not None and row(n)[f"{s}_lean_true"] is not None]
+    assert max(errs) <= 1.0
+
+
+@pytest.mark.xfail(strict=True, reason="target not met yet: pose-model foot strike about 45-100 ms late")
+def test_target_event_timing_one_frame():
+    for n in CLIPS:
+        r = row(n)
+        for kind in ("foot_strike", "foot_off"):
+            assert r[f"{kind}_median_ms"] <= 34 and r[f"{kind}_max_ms"] <= 100, (n, kind)
+
+
+@pytest.mark.xfail(strict=True, reason="target not met yet: a few steady phases missed per clip")
+def test_target_every_phase_found():
+    for n in CLIPS:
+        r = row(n)
+        assert r["phases_matched"] == r["phases_true"] and r["phases_found"] == r["phases_matched"], n
+
+
+@pytest.mark.xfail(strict=True, reason="target not met yet: pose-model hip points give pelvic drop of the wrong sign")
+def test_target_pelvic_drop_within_one_and_a_half_degrees():
+    errs = [abs(row(n)[f"{s}_drop_err"]) for n in CLIPS for s in ("left", "right")
+            if row(n)[f"{s}_drop_err"] is not None and np.isfinite(row(n)[f"{s}_drop_err"])]
+    assert max(errs) <= 1.5

@@ -1,0 +1,114 @@
+"""Accuracy of the whole analysis on the rendered truth clips (development tool).
+
+For every clip in ``demo_clips/manifest.json``: run :func:`lean_video.pipeline.analyse`
+and compare with the clip's truth JSON. Prints one row per clip; ``--json`` writes
+the rows too. The same comparison functions are used by ``tests/test_accuracy.py``.
+
+Usage: ``.venv/bin/python -m tools.eval_accuracy [--json out.json] [NAME ...]``
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+REPO = Path(__file__).resolve().parents[1]
+DEMO = REPO / "demo_clips"
+SIDES = ("left", "right")
+
+
+def truth_sides(truth: dict) -> dict:
+    """Per side, the truth means over complete single-support windows."""
+    out = {}
+    for side in SIDES:
+        win = [w for w in truth["single_support"] if w["stance_side"] == side and w["complete"]]
+        out[side] = {
+            "n": len(win),
+            "lean": float(np.mean([w["mean_lean_toward_stance_deg"] for w in win])) if win else None,
+            "drop": float(np.mean([w["mean_pelvic_drop_deg"] for w in win])) if win else None,
+        }
+    return out
+
+
+def event_errors_ms(events: pd.DataFrame, truth: dict, *, max_ms: float = 200.0) -> dict:
+    """Signed timing error (found minus true, ms) of each true event matched to the nearest found one."""
+    out = {}
+    for kind, key in (("foot_strike", "foot_strike_s"), ("foot_off", "foot_off_s")):
+        errs = []
+        for side in SIDES:
+            found = events[(events["side"] == side) & (events["event"] == kind)]["time_s"].to_numpy()
+            for t in truth["events"][key][side]:
+                if len(found):
+                    d = found[np.argmin(np.abs(found - t))] - t
+                    if abs(d) * 1000 <= max_ms:
+                        errs.append(d * 1000)
+        out[kind] = errs
+    return out
+
+
+def phase_match(strides: pd.DataFrame, truth: dict) -> dict:
+    """Found vs true single-support phases (complete, away from the clip ends), matched by overlap."""
+    duration = truth["duration_s"]
+    true_w = [w for w in truth["single_support"] if w["complete"] and w["start_s"] > 0.4 and w["end_s"] < duration - 0.4]
+    matched, lean_err = 0, []
+    for w in true_w:
+        same = strides[strides["stance_side"] == w["stance_side"]]
+        overlap = (np.minimum(same["end_s"], w["end_s"]) - np.maximum(same["start_s"], w["start_s"])).clip(lower=0)
+        if len(same) and overlap.max() > 0.5 * (w["end_s"] - w["start_s"]):
+            matched += 1
+            lean_err.append(float(same.iloc[int(np.argmax(overlap.to_numpy()))]["lean_mean_deg"]
+                                  - w["mean_lean_toward_stance_deg"]))
+    return {"true": len(true_w), "matched": matched, "found": int(len(strides)), "phase_lean_err": lean_err}
+
+
+def evaluate(name: str) -> dict:
+    from lean_video import pipeline
+
+    truth = json.loads((DEMO / f"{name}.truth.json").read_text())
+    analysis = pipeline.analyse(DEMO / f"{name}.mp4")
+    s = analysis.summary
+    ts = truth_sides(truth)
+    ev = event_errors_ms(analysis.events, truth)
+    ph = phase_match(analysis.strides, truth)
+    row = {"clip": name, "direction_true": truth["direction"], "direction": s["direction"],
+           "roll_true": truth["camera"]["roll_deg"], "roll": s["camera_roll_deg"], "roll_source": s["camera_roll_source"],
+           "phases_true": ph["true"], "phases_matched": ph["matched"], "phases_found": ph["found"],
+           "phase_lean_err_max": max(np.abs(ph["phase_lean_err"]), default=None)}
+    for side in SIDES:
+        got = s["sides"][side]
+        row[f"{side}_lean_err"] = None if got.get("lean_mean_deg") is None or ts[side]["lean"] is None else \
+            got["lean_mean_deg"] - ts[side]["lean"]
+        row[f"{side}_drop_err"] = None if got.get("pelvic_drop_mean_deg") is None or ts[side]["drop"] is None else \
+            got["pelvic_drop_mean_deg"] - ts[side]["drop"]
+        row[f"{side}_lean_true"] = ts[side]["lean"]
+        row[f"{side}_drop_true"] = ts[side]["drop"]
+    for kind, errs in ev.items():
+        row[f"{kind}_median_ms"] = float(np.median(np.abs(errs))) if errs else None
+        row[f"{kind}_max_ms"] = float(np.max(np.abs(errs))) if errs else None
+        row[f"{kind}_bias_ms"] = float(np.median(errs)) if errs else None
+    return row
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("names", nargs="*")
+    parser.add_argument("--json", default=None)
+    args = parser.parse_args(argv)
+    manifest = json.loads((DEMO / "manifest.json").read_text())
+    names = args.names or [c["name"] for c in manifest["clips"]]
+    rows = [evaluate(n) for n in names]
+    table = pd.DataFrame(rows).set_index("clip")
+    with pd.option_context("display.width", 250, "display.max_columns", 40, "display.float_format", "{:.2f}".format):
+        print(table.T.to_string())
+    if args.json:
+        Path(args.json).write_text(json.dumps(rows, indent=2))
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
