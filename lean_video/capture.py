@@ -67,22 +67,57 @@ class CameraSetup:
     motion_class: str  # "still" | "moderate" | "too_large" | "unknown"
     motion: object | None = None  # scene_motion.CameraMotion when measured frame by frame
     checks: tuple = ()
+    scene_roll: RollChoice | None = None  # the scene's own answer, even when the user's roll is used
+
+    def to_cache(self) -> dict | None:
+        """JSON form for re-analysis without decoding; None when the camera moved (not cached)."""
+        if self.motion is not None or self.scene_roll is None:
+            return None
+        return {"scene_roll": [self.scene_roll.roll_deg, self.scene_roll.source, self.scene_roll.confidence],
+                "motion_class": self.motion_class,
+                "checks": [c for c in self.checks if c["name"] != "camera_roll"]}
+
+    @classmethod
+    def from_cache(cls, data: dict, *, user_roll_deg: float | None) -> "CameraSetup":
+        """Rebuild from :meth:`to_cache`, applying a user's roll if one is given now."""
+        scene_roll = RollChoice(float(data["scene_roll"][0]), str(data["scene_roll"][1]), data["scene_roll"][2])
+        roll = RollChoice(float(user_roll_deg), "user") if user_roll_deg is not None else scene_roll
+        return cls(roll, str(data["motion_class"]), None, (roll_check(roll), *data["checks"]), scene_roll)
 
 
 #: Frames sampled over a clip for the scene checks (roll, camera motion,
 #: lighting, other people). Engineering choice: 12 frames give the roll fit
 #: ample segments and keep a 30 s clip's extra decoding to a few seconds.
 SCENE_SAMPLES = 12
+#: Longest side of the sampled frames: line segments and the other-people
+#: search need no more, and LSD's time grows with the pixel count.
+SCENE_SIDE_PX = 960
 
 
 def camera_setup(video: Path | None, keypoints: pd.DataFrame, *, user_roll_deg: float | None,
-                 samples: list | None = None) -> CameraSetup:
+                 samples: list | None = None, clip_width: int | None = None) -> CameraSetup:
     """Camera roll (user's, else the scene's, else 0) and camera motion of a clip.
 
     A still camera is recognised on sampled frames; only when the background
     moves between them is the motion measured frame by frame (hand-held
     clips), and the roll is then taken in the first frame, the frame the
-    keypoints are stabilised into.
+    keypoints are stabilised into. The scene's roll is measured even when the
+    user gives one, so that it can be cached and reported.
+
+    Parameters
+    ----------
+    video : Path or None
+        The clip (None for keypoint input).
+    keypoints : DataFrame
+        Keypoint table (full-size pixels), to keep the person out of the scene.
+    user_roll_deg : float or None, keyword-only
+        A roll given by the user overrides the scene's.
+    samples : list of (frame, time_s, rgb), optional, keyword-only
+        Frames spread over the clip, possibly scaled down (the pose stage keeps
+        them); sampled from the clip when not given.
+    clip_width : int, optional, keyword-only
+        Full picture width, to scale keypoints to the samples (default: the
+        samples' own width).
 
     Raises
     ------
@@ -98,42 +133,44 @@ def camera_setup(video: Path | None, keypoints: pd.DataFrame, *, user_roll_deg: 
     from lean_video import pose, scene, scene_motion
     from lean_video import video as vid
 
-    boxes = person_boxes(keypoints)
-    if samples is None:
-        samples = vid.sample_frames(video, n=SCENE_SAMPLES)
+    if not samples:
+        samples = vid.sample_frames(video, n=SCENE_SAMPLES, max_side_px=SCENE_SIDE_PX)
+    full_boxes = person_boxes(keypoints)
+    k = samples[0][2].shape[1] / float(clip_width or samples[0][2].shape[1])
+    boxes = {i: None if b is None else tuple(v * k for v in b) for i, b in full_boxes.items()}
     quick = scene_motion.estimate_camera_motion(samples, person_boxes_by_frame=boxes)
     motion, motion_class = None, scene_motion.classify(quick)
     if motion_class != "still":
-        motion = scene_motion.estimate_camera_motion(video, person_boxes_by_frame=boxes)
+        motion = scene_motion.estimate_camera_motion(video, person_boxes_by_frame=full_boxes)
         motion_class = scene_motion.classify(motion)
     if motion_class == "too_large":
         raise LeanVideoError(
             "The camera moved too much to measure lean (more than 5 degrees of turn or a tenth of the picture); "
             "film again with the phone on a tripod or held against a wall or door frame."
         )
-    if user_roll_deg is not None:
-        roll = RollChoice(float(user_roll_deg), "user")
+    to_ref = None
+    if motion is not None:
+        # Full-size similarity -> the samples' pixels: same rotation, translation scaled.
+        inverse = {int(i): cv2_invert(m) * np.array([[1.0, 1.0, k], [1.0, 1.0, k]])
+                   for i, m in zip(motion.frame_indices, motion.matrices)}
+        to_ref = [inverse.get(index) for index, _, _ in samples]
+    estimate = scene.estimate_camera_roll([rgb for _, _, rgb in samples],
+                                          person_boxes=[_nearest(boxes, i) for i, _, _ in samples],
+                                          to_reference=to_ref)
+    if estimate.source == "scene" and estimate.confidence >= MIN_ROLL_CONFIDENCE:
+        log.info("camera roll from the scene: %.2f deg (confidence %.2f)", estimate.roll_deg, estimate.confidence)
+        scene_roll = RollChoice(float(estimate.roll_deg), "scene", float(estimate.confidence))
     else:
-        frames = [rgb for _, _, rgb in samples]
-        to_ref = None
-        if motion is not None:
-            inverse = {int(k): cv2_invert(m) for k, m in zip(motion.frame_indices, motion.matrices)}
-            to_ref = [inverse.get(index) for index, _, _ in samples]
-        estimate = scene.estimate_camera_roll(frames, person_boxes=[_nearest(boxes, i) for i, _, _ in samples],
-                                              to_reference=to_ref)
-        if estimate.source == "scene" and estimate.confidence >= MIN_ROLL_CONFIDENCE:
-            log.info("camera roll from the scene: %.2f deg (confidence %.2f)", estimate.roll_deg, estimate.confidence)
-            roll = RollChoice(float(estimate.roll_deg), "scene", float(estimate.confidence))
-        else:
-            log.info("camera roll: the scene gave no reliable estimate; assuming a level camera")
-            roll = RollChoice(0.0, "none", float(estimate.confidence))
+        log.info("camera roll: the scene gave no reliable estimate; assuming a level camera")
+        scene_roll = RollChoice(0.0, "none", float(estimate.confidence))
+    roll = RollChoice(float(user_roll_deg), "user") if user_roll_deg is not None else scene_roll
     found = [(i, rgb) for i, _, rgb in samples if boxes.get(i) is not None]
     probe = found[:: max(1, len(found) // 3)][:3]
-    lms = [_landmarks_of(keypoints, i, pose.LANDMARK_NAMES) for i, _ in probe]
+    lms = [_landmarks_of(keypoints, i, pose.LANDMARK_NAMES) * np.array([k, k, k, 1.0, 1.0]) for i, _ in probe]
     checks = (roll_check(roll), motion_check(motion_class, quick if motion is None else motion),
               brightness_check([rgb for _, _, rgb in samples]),
               other_people_check(pose.second_person([rgb for _, rgb in probe], lms), len(probe)))
-    return CameraSetup(roll, motion_class, motion, checks)
+    return CameraSetup(roll, motion_class, motion, checks, scene_roll)
 
 
 def cv2_invert(matrix: np.ndarray) -> np.ndarray:
@@ -330,11 +367,13 @@ def quick_check(path: str | Path, *, n_samples: int = QUICK_SAMPLES) -> dict:
     from lean_video import pose, video
 
     info = video.probe_clip(path)
-    samples = video.sample_frames(path, n=n_samples)
+    samples = video.sample_frames(path, n=n_samples, max_side_px=SCENE_SIDE_PX)
     landmarks = pose.detect_still([rgb for _, _, rgb in samples])
+    back = info.width / float(samples[0][2].shape[1]) if samples else 1.0  # sample pixels -> full size
     rows = []
     for (index, time_s, _), lm in zip(samples, landmarks):
-        data = lm if lm is not None else np.full((len(pose.LANDMARK_NAMES), 5), np.nan)
+        data = lm * np.array([back, back, back, 1.0, 1.0]) if lm is not None \
+            else np.full((len(pose.LANDMARK_NAMES), 5), np.nan)
         for name, values in zip(pose.LANDMARK_NAMES, data):
             rows.append((index, time_s, name, *values))
     keypoints = pd.DataFrame(rows, columns=list(pose.COLUMNS))
@@ -342,7 +381,8 @@ def quick_check(path: str | Path, *, n_samples: int = QUICK_SAMPLES) -> dict:
     checks = keypoint_checks(keypoints, clip)
     checks.append(direction_check(keypoints, None))
     try:
-        checks.extend(camera_setup(Path(path), keypoints, user_roll_deg=None, samples=samples).checks)
+        checks.extend(camera_setup(Path(path), keypoints, user_roll_deg=None, samples=samples,
+                                   clip_width=info.width).checks)
     except LeanVideoError as exc:
         checks.append(_check("camera_motion", "fail", "too_large", str(exc), "film again on a tripod"))
     return {"clip": clip, "checks": checks, "not_checked": ["phases_per_side"]}

@@ -99,7 +99,8 @@ def obliquity_timeseries(frames: pd.DataFrame, strides: pd.DataFrame) -> go.Figu
     _shade_phases(fig, strides)
     fig.add_trace(go.Scatter(x=t, y=y, mode="lines", name="pelvic obliquity", line={"color": "#55606a", "width": 1.6},
                              connectgaps=False, hovertemplate="%{x:.2f} s: %{y:.1f}°<extra></extra>"))
-    return _layout(fig, "Pelvic obliquity over time (+ = client's left hip lower)", "time (s)", "obliquity (°)")
+    return _layout(fig, "Pelvic obliquity over time (+ = client's left hip lower; not validated, see caution)",
+                   "time (s)", "obliquity (°)")
 
 
 def phase_lean(strides: pd.DataFrame, side_stats: Mapping[str, Mapping]) -> go.Figure:

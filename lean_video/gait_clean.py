@@ -124,6 +124,7 @@ def repair_swaps(
     """
     out = {k: v.copy() for k, v in track.items()}
     n_swapped = 0
+    dt = _median_dt(time_s)
     for group in SWAP_GROUPS.values():
         lefts = [PAIRS[p][0] for p in group]
         rights = [PAIRS[p][1] for p in group]
@@ -134,11 +135,11 @@ def repair_swaps(
         for i, t in enumerate(time_s):
             cur = np.concatenate([L[i], R[i]])  # (2k, 2)
             pred = np.full_like(cur, np.nan)
-            fresh = (t - hist_t[1]) <= max_gap_s + 1e-9 + _median_dt(time_s)
+            fresh = (t - hist_t[1]) <= max_gap_s + 1e-9 + dt
             for j in np.flatnonzero(fresh):
                 p1, t1 = hist[1, j], hist_t[1, j]
                 p0, t0 = hist[0, j], hist_t[0, j]
-                if np.isfinite(t0) and t1 - t0 > 0 and t1 - t0 <= 2 * _median_dt(time_s):
+                if np.isfinite(t0) and t1 - t0 > 0 and t1 - t0 <= 2 * dt:
                     pred[j] = p1 + (p1 - p0) * (t - t1) / (t1 - t0)
                 else:
                     pred[j] = p1

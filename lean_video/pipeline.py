@@ -24,6 +24,20 @@ from lean_video.errors import LeanVideoError
 
 log = logging.getLogger(__name__)
 
+#: How pelvic obliquity is measured, and how far to trust it (stated in every summary and report).
+PELVIS_METHOD = {
+    "source": "pose-model hip landmarks (line through left_hip and right_hip)",
+    "validated": False,
+    "note": ("Measured from the pose model's two hip points. On rendered test walkers with a known pelvic drop "
+             "of 2-4 degrees these points moved the wrong way (correlation -0.7 to -0.95 with the true "
+             "obliquity; per-side drop wrong in sign by 2-7 degrees), and a body-outline method tried instead "
+             "was not reliable either. Do not use these pelvic-drop numbers for clinical decisions; judge "
+             "pelvic drop (Trendelenburg sign) by eye. Trunk lean is not affected."),
+}
+
+#: Version of the scene cache's content; bump when the scene checks change.
+SCENE_CACHE_FORMAT = 1
+
 #: Files written by :func:`write_outputs`, in the order they are written.
 OUTPUT_FILES = ("frames.csv", "events.csv", "strides.csv", "summary.json")
 
@@ -72,13 +86,16 @@ def _load_keypoints(input_path: Path, options: AnalysisOptions, *, cache_dir, pr
 
     if input_path.is_dir():
         table, clip = pose.read_handover(input_path)
-        return table, clip, None, {"source": "keypoints folder"}
+        return table, clip, None, {"source": "keypoints folder"}, ()
+    from lean_video.capture import SCENE_SAMPLES
+
     settings = pose.PoseSettings(max_side_px=options.pose_max_side_px, workers=options.pose_workers)
-    run = pose.run_pose(input_path, settings=settings, cache_dir=cache_dir, progress=progress)
+    run = pose.run_pose(input_path, settings=settings, cache_dir=cache_dir, progress=progress,
+                        n_samples=SCENE_SAMPLES)
     clip = {k: v for k, v in run.clip.to_dict().items() if k != "path"}
     info = {"source": "video", "model": "BlazePose full (mediapipe 0.10.21)", "settings": asdict(settings),
             "from_cache": run.from_cache, **run.stats}
-    return run.keypoints, clip, input_path, info
+    return run.keypoints, clip, input_path, info, run.samples
 
 
 def _json_ready(value: Any) -> Any:
@@ -127,11 +144,12 @@ def analyse(
     path = Path(input_path)
     if not path.exists():
         raise LeanVideoError(f"Input not found: '{path}'; give a video file or a folder written by 'lean-video pose'.")
-    keypoints, clip, video, pose_info = _load_keypoints(path, options, cache_dir=cache_dir, progress=progress)
+    keypoints, clip, video, pose_info, samples = _load_keypoints(path, options, cache_dir=cache_dir,
+                                                                  progress=progress)
     width, height = int(clip["width"]), int(clip["height"])
     capture.require_upright(keypoints)
 
-    camera = capture.camera_setup(video, keypoints, user_roll_deg=options.camera_roll_deg)
+    camera = _camera_setup(video, keypoints, options, samples, clip, cache_dir)
     roll = camera.roll
     measured = keypoints
     if camera.motion is not None:
@@ -146,6 +164,7 @@ def analyse(
     summary["sides"] = {side: {**summary["sides"].get(side, {}), **_mech_side(per_side.get(side, {}))}
                         for side in ("left", "right")}
     summary["standing"] = posture.standing_posture(result.frames, measured)
+    summary["pelvic_obliquity_method"] = PELVIS_METHOD
     summary["camera_roll_deg"] = roll.roll_deg
     summary["camera_roll_source"] = roll.source
     summary["camera_roll_confidence"] = roll.confidence
@@ -169,6 +188,36 @@ def analyse(
         summary["sides"][side]["hip_model_band_5_95"] = _band(mechanics, summary["sides"][side], params,
                                                               options.mass_kg)
     return Analysis(result.frames, result.events, strides, _json_ready(summary), keypoints, video, curve)
+
+
+def _camera_setup(video, keypoints, options: AnalysisOptions, samples, clip: dict, cache_dir) -> Any:
+    """Camera roll and motion, from the scene cache when this clip was seen before.
+
+    Only the scene's answers are cached (roll, still camera, lighting, other
+    people), never pictures; a hand-held clip is measured again each time.
+    """
+    from lean_video import capture
+    from lean_video.pose import default_cache_dir
+
+    cache_file = None
+    if video is not None and clip.get("sha256"):
+        folder = Path(cache_dir) if cache_dir is not None else default_cache_dir()
+        cache_file = folder / f"scene-{clip['sha256'][:24]}-{SCENE_CACHE_FORMAT}.json"
+        try:
+            data = json.loads(cache_file.read_text())
+            return capture.CameraSetup.from_cache(data, user_roll_deg=options.camera_roll_deg)
+        except (OSError, ValueError, KeyError, TypeError, IndexError):
+            pass
+    camera = capture.camera_setup(video, keypoints, user_roll_deg=options.camera_roll_deg, samples=list(samples),
+                                  clip_width=int(clip["width"]))
+    data = camera.to_cache()
+    if cache_file is not None and data is not None:
+        try:
+            cache_file.parent.mkdir(parents=True, exist_ok=True)
+            _atomic_write(cache_file, json.dumps(_json_ready(data)))
+        except OSError as exc:
+            log.warning("could not write the scene cache %s: %s", cache_file.name, exc)
+    return camera
 
 
 def _stabilised(keypoints: pd.DataFrame, motion) -> pd.DataFrame:
@@ -268,8 +317,6 @@ def peak_pictures(analysis: Analysis) -> dict:
     Returns ``{side: {"rgb", "keypoints", "lean_deg", "time_s"}}`` for the
     report; empty for keypoint-folder input (there is no picture).
     """
-    from lean_video.video import iter_frames
-
     if analysis.video_path is None or analysis.strides.empty:
         return {}
     frames = analysis.frames
@@ -286,15 +333,14 @@ def peak_pictures(analysis: Analysis) -> dict:
             wanted[int(row["frame"])] = (side, float(sign * row["trunk_lean_deg"]), float(row["time_s"]))
     if not wanted:
         return {}
+    from lean_video.video import frames_at
+
     kp = analysis.keypoints
     out = {}
-    last = max(wanted)
-    for index, _, rgb in iter_frames(analysis.video_path):
-        if index in wanted:
-            side, lean, t = wanted[index]
-            rows = kp[kp["frame"] == index]
-            points = {r.landmark: (float(r.x_px), float(r.y_px)) for r in rows.itertuples() if np.isfinite(r.x_px)}
-            out[side] = {"rgb": rgb, "keypoints": points, "lean_deg": lean, "time_s": t}
-        if index >= last:
-            break
+    times = {index: t for index, (_, _, t) in wanted.items()}
+    for index, rgb in frames_at(analysis.video_path, times).items():
+        side, lean, t = wanted[index]
+        rows = kp[kp["frame"] == index]
+        points = {r.landmark: (float(r.x_px), float(r.y_px)) for r in rows.itertuples() if np.isfinite(r.x_px)}
+        out[side] = {"rgb": rgb, "keypoints": points, "lean_deg": lean, "time_s": t}
     return out

@@ -267,7 +267,8 @@ def to_rgb(bgr: np.ndarray, *, max_side_px: int | None = None) -> np.ndarray:
     return cv2.cvtColor(bgr, cv2.COLOR_BGR2RGB)
 
 
-def sample_frames(path: str | os.PathLike, *, n: int) -> list[tuple[int, float, np.ndarray]]:
+def sample_frames(path: str | os.PathLike, *, n: int,
+                  max_side_px: int | None = None) -> list[tuple[int, float, np.ndarray]]:
     """About ``n`` frames spread evenly over a clip, as ``(index, time_s, rgb)``.
 
     Frames in between are decoded but not converted (``grab`` without
@@ -288,8 +289,45 @@ def sample_frames(path: str | os.PathLike, *, n: int) -> list[tuple[int, float, 
             if index in wanted:
                 ok, bgr = cap.retrieve()
                 if ok and bgr is not None:
-                    out.append((index, float(cap.get(cv2.CAP_PROP_POS_MSEC)) / 1000.0, to_rgb(bgr)))
+                    out.append((index, float(cap.get(cv2.CAP_PROP_POS_MSEC)) / 1000.0,
+                                to_rgb(bgr, max_side_px=max_side_px)))
             index += 1
+    finally:
+        cap.release()
+    return out
+
+
+def frames_at(path: str | os.PathLike, times_s: dict[int, float]) -> dict[int, np.ndarray]:
+    """The upright RGB frames shown at given presentation times, found by seeking.
+
+    Parameters
+    ----------
+    path : path-like
+    times_s : dict
+        Key (e.g. frame index) -> presentation time in seconds, as the frame
+        iterators report it.
+
+    Returns
+    -------
+    dict
+        Key -> RGB frame, for every time that was found.
+    """
+    out = {}
+    cap = _open_capture(Path(path))
+    try:
+        for key, t in sorted(times_s.items(), key=lambda kv: kv[1]):
+            # Seek a little before: the decoder lands on an earlier key frame and
+            # decodes forward, so the wanted frame is reached exactly by its time.
+            cap.set(cv2.CAP_PROP_POS_MSEC, max(t - 0.5, 0.0) * 1000.0)
+            while True:
+                ok, bgr = cap.read()
+                if not ok or bgr is None:
+                    break
+                now = float(cap.get(cv2.CAP_PROP_POS_MSEC)) / 1000.0
+                if now >= t - 1e-4:
+                    if abs(now - t) <= 1e-3:
+                        out[key] = to_rgb(bgr)
+                    break
     finally:
         cap.release()
     return out
