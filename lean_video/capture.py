@@ -59,6 +59,13 @@ class RollChoice:
     confidence: float | None = None
 
 
+def check_user_roll(user_roll_deg: float | None) -> None:
+    """Refuse a user-given camera roll outside -45..45 degrees (or not a number)."""
+    if user_roll_deg is not None and (not math.isfinite(user_roll_deg) or abs(user_roll_deg) > 45):
+        raise LeanVideoError(f"--camera-roll-deg must lie within -45..45 degrees; {user_roll_deg} was given; "
+                             "give the phone's tilt in degrees, or leave it out to measure it from the room.")
+
+
 @dataclass(frozen=True)
 class CameraSetup:
     """What the scene says about the camera: its roll, and whether it moved."""
@@ -125,8 +132,7 @@ def camera_setup(video: Path | None, keypoints: pd.DataFrame, *, user_roll_deg: 
         For a user roll outside -45..45 degrees, or camera motion too large to
         correct.
     """
-    if user_roll_deg is not None and (not math.isfinite(user_roll_deg) or abs(user_roll_deg) > 45):
-        raise LeanVideoError(f"--camera-roll-deg must lie within -45..45 degrees; {user_roll_deg} was given.")
+    check_user_roll(user_roll_deg)
     if video is None:
         roll = RollChoice(float(user_roll_deg), "user") if user_roll_deg is not None else RollChoice(0.0, "none")
         return CameraSetup(roll, "unknown", None, (roll_check(roll),))

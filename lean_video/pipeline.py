@@ -141,6 +141,7 @@ def analyse(
     """
     from lean_video import capture, gait, mechanics, posture
 
+    capture.check_user_roll(options.camera_roll_deg)
     path = Path(input_path)
     if not path.exists():
         raise LeanVideoError(f"Input not found: '{path}'; give a video file or a folder written by 'lean-video pose'.")
