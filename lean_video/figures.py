@@ -48,11 +48,13 @@ def _layout(fig: go.Figure, title: str, x_title: str, y_title: str, height: int 
 
 
 def _shade_phases(fig: go.Figure, strides: pd.DataFrame) -> None:
+    # All bands in one layout update: plotly's add_vrect re-validates every
+    # existing shape on each call, which grew to seconds for a 30 s walk.
+    shapes = [{"type": "rect", "xref": "x", "yref": "paper", "x0": float(row.start_s), "x1": float(row.end_s),
+               "y0": 0, "y1": 1, "fillcolor": SIDE_FILL[row.stance_side], "line": {"width": 0}, "layer": "below"}
+              for row in strides.itertuples(index=False) if row.stance_side in SIDES]
+    fig.update_layout(shapes=list(fig.layout.shapes) + shapes)
     for side in SIDES:
-        sub = strides[strides["stance_side"] == side]
-        for k, row in enumerate(sub.itertuples(index=False)):
-            fig.add_vrect(x0=float(row.start_s), x1=float(row.end_s), fillcolor=SIDE_FILL[side],
-                          line_width=0, layer="below")
         # Legend entry for the shading (vrects have none of their own).
         fig.add_trace(go.Scatter(x=[None], y=[None], mode="markers", name=f"{side} single support",
                                  marker={"symbol": "square", "size": 11, "color": SIDE_FILL[side],
