@@ -21,6 +21,7 @@ import pandas as pd
 
 from lean_video import __version__
 from lean_video.errors import LeanVideoError
+from lean_video.files import atomic_write_text
 
 log = logging.getLogger(__name__)
 
@@ -215,7 +216,7 @@ def _camera_setup(video, keypoints, options: AnalysisOptions, samples, clip: dic
     if cache_file is not None and data is not None:
         try:
             cache_file.parent.mkdir(parents=True, exist_ok=True)
-            _atomic_write(cache_file, json.dumps(_json_ready(data)))
+            atomic_write_text(cache_file, json.dumps(_json_ready(data)))
         except OSError as exc:
             log.warning("could not write the scene cache %s: %s", cache_file.name, exc)
     return camera
@@ -251,19 +252,6 @@ def _mech_side(side: dict) -> dict:
     out = {name: side.get(name) for name in (*OUTPUT_NAMES, *NEWTON_NAMES) if name in side}
     out["hip_model_statistic"] = "median over phases"
     return out
-
-
-def _atomic_write(path: Path, text: str) -> None:
-    tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
-    try:
-        with open(tmp, "w", encoding="utf-8", newline="") as handle:
-            handle.write(text)
-            handle.flush()
-            os.fsync(handle.fileno())
-        os.replace(tmp, path)
-    finally:
-        if tmp.exists():
-            tmp.unlink()
 
 
 def input_sha256(input_path: str | os.PathLike) -> str | None:
@@ -305,9 +293,9 @@ def write_outputs(analysis: Analysis, out_dir: str | os.PathLike) -> list[Path]:
     paths = []
     tables = {"frames.csv": analysis.frames, "events.csv": analysis.events, "strides.csv": analysis.strides}
     for name, table in tables.items():
-        _atomic_write(out / name, table.to_csv(index=False, float_format="%.4f"))
+        atomic_write_text(out / name, table.to_csv(index=False, float_format="%.4f"))
         paths.append(out / name)
-    _atomic_write(out / "summary.json", json.dumps(analysis.summary, indent=2, allow_nan=False))
+    atomic_write_text(out / "summary.json", json.dumps(analysis.summary, indent=2, allow_nan=False))
     paths.append(out / "summary.json")
     return paths
 

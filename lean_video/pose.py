@@ -43,6 +43,7 @@ import numpy as np
 import pandas as pd
 
 from lean_video.errors import LeanVideoError
+from lean_video.files import atomic_write_text
 from lean_video.video import ClipInfo, iter_bgr, probe_clip, to_rgb
 
 log = logging.getLogger(__name__)
@@ -355,11 +356,13 @@ class _Prefetch:
             yield item
 
     def close(self) -> None:
+        import queue
+
         self._stop.set()
         while self._thread.is_alive():
             try:
-                self._queue.get(timeout=0.1)
-            except Exception:  # noqa: BLE001 - queue.Empty; just retry
+                self._queue.get(timeout=0.1)  # unblock a producer waiting on a full queue
+            except queue.Empty:
                 pass
 
 
@@ -525,9 +528,7 @@ def _save_cache(cache_dir: Path, info: ClipInfo, settings: PoseSettings, times, 
         tmp = npz.with_name(npz.stem + f".{os.getpid()}.tmp.npz")
         np.savez_compressed(tmp, time_s=times, data=data)
         os.replace(tmp, npz)
-        tmp_meta = meta.with_name(meta.name + f".{os.getpid()}.tmp")
-        tmp_meta.write_text(json.dumps(stats))
-        os.replace(tmp_meta, meta)
+        atomic_write_text(meta, json.dumps(stats))
     except OSError as exc:
         # A cache is an optimisation: failing to write one must not fail the run.
         log.warning("could not write keypoint cache in %s: %s", cache_dir, exc)
@@ -616,8 +617,8 @@ def write_handover(run: PoseRun, out_dir: str | os.PathLike) -> tuple[Path, Path
     clip = {k: v for k, v in run.clip.to_dict().items() if k != "path"}
     clip["pose"] = {"settings": asdict(run.settings), **run.stats}
     kp_path, clip_path = out / "keypoints.csv", out / "clip.json"
-    _atomic_write_text(kp_path, run.keypoints.to_csv(index=False, float_format="%.4f"))
-    _atomic_write_text(clip_path, json.dumps(clip, indent=2))
+    atomic_write_text(kp_path, run.keypoints.to_csv(index=False, float_format="%.4f"))
+    atomic_write_text(clip_path, json.dumps(clip, indent=2))
     return kp_path, clip_path
 
 
@@ -653,12 +654,3 @@ def read_handover(folder: str | os.PathLike) -> tuple[pd.DataFrame, dict]:
         if not isinstance(clip.get(key), (int, float)) or clip[key] <= 0:
             raise LeanVideoError(f"clip.json needs a positive '{key}' in pixels; {clip.get(key)!r} was given.")
     return table, clip
-
-
-def _atomic_write_text(path: Path, text: str) -> None:
-    tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
-    with open(tmp, "w", encoding="utf-8", newline="") as handle:
-        handle.write(text)
-        handle.flush()
-        os.fsync(handle.fileno())
-    os.replace(tmp, path)

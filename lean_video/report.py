@@ -35,7 +35,6 @@ import logging
 import math
 import os
 import re
-import tempfile
 from datetime import datetime, timezone
 from pathlib import Path
 from typing import Any, Mapping, Sequence
@@ -49,6 +48,7 @@ from scipy import stats
 
 from lean_video import figures
 from lean_video.errors import LeanVideoError
+from lean_video.files import atomic_write_text
 from lean_video.report_pictures import annotate_peak_frame, lever_arm_svg
 
 logger = logging.getLogger(__name__)
@@ -397,26 +397,4 @@ def write_report_atomic(html: str, path: str | os.PathLike) -> Path:
     folder = target.parent if str(target.parent) else Path(".")
     if not folder.is_dir():
         raise LeanVideoError(f"report folder {folder.name or '.'} does not exist; create it or choose another --out.")
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
-            fh.write(html)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.chmod(tmp, 0o600)
-        os.replace(tmp, target)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except FileNotFoundError:
-            pass
-        raise
-    try:   # make the rename durable too (POSIX); not available everywhere
-        dfd = os.open(folder, os.O_RDONLY)
-        try:
-            os.fsync(dfd)
-        finally:
-            os.close(dfd)
-    except OSError:
-        pass
-    return target
+    return atomic_write_text(target, html, private=True)
