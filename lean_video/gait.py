@@ -39,7 +39,7 @@ from lean_video.gait_events import (
     assign_client_sides, body_height_px, detect_contacts, foot_speeds,
     refine_event_times, smooth_body_height, walking_direction,
 )
-from lean_video.gait_frontal import drop_short_contacts, foot_centre_events
+from lean_video.gait_frontal import drop_short_contacts, foot_centre_events, order_events
 
 log = logging.getLogger(__name__)
 
@@ -202,7 +202,7 @@ def analyse_keypoints(
     contact_off_fraction: float = 0.3, min_phase_s: float = 0.15, max_phase_s: float = 1.0,
     max_missing_fraction: float = 0.2, footprint_tolerance: float = 0.01,
     contact_points: str = "centroid", foot_centre_timing: bool = True,
-    foot_centre_cutoff_hz: float = 10.0,
+    foot_centre_cutoff_hz: float = 10.0, event_order: bool = True,
 ) -> GaitResult:
     """Find foot events, single-support phases, trunk lean and pelvic obliquity.
 
@@ -239,6 +239,9 @@ def analyse_keypoints(
         Low-pass cut-off of the foot points used for that re-timing (higher
         than ``event_cutoff_hz`` so the turning points stay sharp; common
         practice, no source).
+    event_order : bool, keyword-only
+        Resolve a foot strike found after the other foot's foot off by moving
+        the event the view hides, see :func:`lean_video.gait_frontal.order_events`.
 
     Returns
     -------
@@ -276,7 +279,7 @@ def analyse_keypoints(
         max_phase_s=float(max_phase_s), max_missing_fraction=float(max_missing_fraction),
         footprint_tolerance=float(footprint_tolerance), contact_points=contact_points,
         foot_centre_timing=bool(foot_centre_timing),
-        foot_centre_cutoff_hz=float(foot_centre_cutoff_hz),
+        foot_centre_cutoff_hz=float(foot_centre_cutoff_hz), event_order=bool(event_order),
         filter="Butterworth order 2 per pass, sosfiltfilt (zero lag), per valid segment on a uniform grid",
     )
     frame, time_s, raw = keypoints_to_track(keypoints, min_visibility=min_visibility)
@@ -316,6 +319,10 @@ def analyse_keypoints(
             fc_track, time_s, side, intervals[side], direction=direction,
             other_intervals=intervals[other], camera_roll_deg=camera_roll_deg)
             for side, other in (("left", "right"), ("right", "left"))}
+    n_reordered = 0
+    if event_order:
+        intervals["left"], intervals["right"], n_reordered = order_events(
+            intervals["left"], intervals["right"], direction=direction)
     for side in SIDES:
         # per-frame contact between the (refined) foot strike and foot off
         contact[side] = np.zeros(len(time_s), bool)
@@ -381,6 +388,7 @@ def analyse_keypoints(
             "n_label_swaps_repaired": int(n_swaps),
             "n_side_relabellings": int(n_relabel),
             "n_short_contacts_dropped": int(n_short),
+            "n_events_reordered": int(n_reordered),
             "log_size_slope_per_s": None if not np.isfinite(slope) else float(slope),
             "dropped_phases": drops,
             "n_dropped_phases": len(drops),

@@ -6,7 +6,7 @@ footprint is found late (about +60 ms on the rendered clips); walking away,
 the landing heel's descent and recession cancel before foot strike (about
 -90 ms). These two events are re-timed from turning points of the foot's image
 motion (:func:`foot_centre_events`): foot off at the peak upward speed of the
-foot centre (foot-velocity algorithm, O'Connor et al. 2007, Gait & Posture
+toe (foot-velocity algorithm, O'Connor et al. 2007, Gait & Posture
 25:469-474), foot strike where the heel is halfway down from its highest image
 point (after Zeni et al. 2008, Gait & Posture 27:710-714); both bounded by the
 other foot's events (double support; Perry & Burnfield 2010). Fully seen
@@ -20,6 +20,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from lean_video.errors import LeanVideoError
 from lean_video.gait_clean import PAIRS
 
 def _peak_time(t, s, i):
@@ -56,6 +57,7 @@ def foot_centre_events(
     track: dict[str, np.ndarray], time_s: np.ndarray, side: str, intervals: list, *,
     direction: str, other_intervals: list = (), camera_roll_deg: float = 0.0,
     window_before_s: float = 0.25, window_after_s: float = 0.07, strike_window_s: float = 0.17,
+    off_point: str = "toe", strike_margin_s: float = 0.1,
 ) -> list:
     """Re-time the event the frontal view hides, from turning points of the foot's image motion.
 
@@ -70,16 +72,20 @@ def foot_centre_events(
     and is left alone. Instead of the footprint, two turning points time the
     hidden event:
 
-    * toward, foot off: the peak upward image velocity of the foot centre,
-      the midpoint of heel and toe (foot-velocity algorithm, O'Connor et al.
-      2007, Gait & Posture 25:469-474, from memory). The heel rises fast while
-      the foot rolls over the toe, and the approach (image down) turns the
-      foot centre over right after foot off. Searched within
-      ``[t_off - window_before_s, t_off + window_after_s]`` of the
-      position-based foot off, but not before the other foot's last foot
-      strike: a foot leaves the floor only after the other one has landed
-      (double support, about 10 % of the cycle each; Perry & Burnfield 2010,
-      Gait Analysis, 2nd ed., ch. 1, from memory).
+    * toward, foot off: the peak upward image velocity of the toe (the
+      pose model's foot index; ``off_point="centre"`` uses the midpoint of
+      heel and toe instead), after the foot-velocity algorithm of O'Connor et
+      al. 2007, Gait & Posture 25:469-474, from memory. Right after foot off
+      the toe lifts faster than its approach moves it down in the image.
+      Measured on the ten rendered clips walking toward the camera, median
+      absolute error 9-40 ms with the toe against 11-85 ms with the foot
+      centre. Searched within ``[t_off - window_before_s, t_off +
+      window_after_s]`` of the position-based foot off, but not before the
+      other foot's last foot strike less ``strike_margin_s``: a foot leaves
+      the floor only after the other one has landed (double support, about
+      10 % of the cycle each; Perry & Burnfield 2010, Gait Analysis, 2nd ed.,
+      ch. 1, from memory), and the margin allows for that strike being found
+      late (+45..+100 ms toward the camera on the rendered clips).
     * away, foot strike: the heel's highest image point. While the heel
       recedes it rises in the image; once it is on the floor it stops, so
       the turning point is the end of its recession (the heel's extreme
@@ -110,17 +116,23 @@ def foot_centre_events(
     direction : {"toward", "away"}, keyword-only
     camera_roll_deg : float, keyword-only
         Image "up" follows the rolled world vertical (see :mod:`lean_video.gait`).
+    off_point : {"toe", "centre"}, keyword-only
+        Foot point whose upward velocity times foot off toward the camera.
+    strike_margin_s : float, keyword-only
+        How far before the other foot's detected strike the foot-off search may start.
 
     Returns
     -------
     intervals : list
         Same layout as :func:`detect_contacts`.
     """
+    if off_point not in ("toe", "centre"):
+        raise LeanVideoError(f"off_point must be 'toe' or 'centre', got {off_point!r}; use 'toe'.")
     k = 0 if side == "left" else 1
     heel, toe = track[PAIRS["heel"][k]], track[PAIRS["foot_index"][k]]
     r = np.radians(camera_roll_deg)
     up = np.array([np.sin(r), -np.cos(r)])
-    centre = (heel + toe) / 2 @ up
+    centre = ((heel + toe) / 2 if off_point == "centre" else toe) @ up
     v_up = np.gradient(centre, time_s)
     heel_up = heel @ up
     out = []
@@ -140,7 +152,7 @@ def foot_centre_events(
             lo = t_o - window_before_s
             prior = [iv[0] for iv in other_intervals if iv[4] and t_o - 2 * window_before_s < iv[0] < t_o]
             if prior:
-                lo = max(lo, max(prior))
+                lo = max(lo, max(prior) - strike_margin_s)
             sel = np.flatnonzero((time_s >= lo) & (time_s <= t_o + window_after_s))
             sel = sel[np.isfinite(v_up[sel])]
             if len(sel) >= 3:
@@ -174,3 +186,63 @@ def drop_short_contacts(intervals: list, *, min_fraction: float = 0.5) -> tuple[
     floor = min_fraction * float(np.median(full))
     kept = [iv for iv in intervals if not (iv[4] and iv[5] and iv[1] - iv[0] < floor)]
     return kept, len(intervals) - len(kept)
+
+
+def order_events(left: list, right: list, *, direction: str, max_gap_s: float = 0.2) -> tuple[list, list, int]:
+    """Make each foot strike come before the other foot's foot off (double support exists).
+
+    In walking a foot leaves the floor only after the other foot has landed:
+    every step has a double-support interval, about 10 % of the gait cycle
+    (Perry & Burnfield 2010, Gait Analysis, 2nd ed., ch. 1, from memory).
+    When the detected foot strike of one foot comes after the detected foot
+    off of the other (within ``max_gap_s``, beyond which the pair is not the
+    same step), the two events contradict each other, and one of them is moved
+    onto the other. Which one follows from what the frontal view hides,
+    measured on the rendered clips: walking toward the camera the heel is
+    hidden behind the forefoot at foot strike and the pose model's heel
+    settles late (strikes +45..+100 ms, offs about unbiased), so the strike is
+    moved back to the foot off; walking away the toe is hidden behind the
+    heel at foot off and offs are found early (about -130 ms), so the foot off
+    is moved forward to the strike. The phase between them then has zero
+    length rather than a negative one; the single-support phases on either
+    side no longer overlap.
+
+    Parameters
+    ----------
+    left, right : list
+        Contact intervals of each foot, layout of
+        :func:`lean_video.gait_events.detect_contacts`.
+    direction : {"toward", "away"}, keyword-only
+    max_gap_s : float, keyword-only
+        Largest contradiction that is resolved (common practice, no source:
+        about twice the timing error of the pose-model events).
+
+    Returns
+    -------
+    left, right : list
+        Same layout.
+    n_moved : int
+        Number of events moved.
+    """
+    if direction not in ("toward", "away"):
+        raise LeanVideoError(f"direction must be 'toward' or 'away', got {direction!r}; use walking_direction().")
+    feet = {"left": [list(iv) for iv in left], "right": [list(iv) for iv in right]}
+    n_moved = 0
+    for a, b in (("left", "right"), ("right", "left")):
+        for iv in feet[a]:
+            if not iv[4]:
+                continue
+            strike = iv[0]
+            # the other foot's contact that was under way when this foot landed
+            before = [jv for jv in feet[b] if jv[0] < strike and jv[5]]
+            if not before:
+                continue
+            jv = max(before, key=lambda c: c[0])
+            if jv[1] < strike <= jv[1] + max_gap_s:
+                if direction == "toward":
+                    iv[0] = jv[1]
+                else:
+                    jv[1] = strike
+                n_moved += 1
+    as_tuples = {side: [tuple(iv) for iv in ivs] for side, ivs in feet.items()}
+    return as_tuples["left"], as_tuples["right"], n_moved

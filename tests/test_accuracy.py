@@ -50,9 +50,11 @@ def test_direction_roll_and_lean(name):
 @pytest.mark.parametrize("name", CLIPS)
 def test_phases_found(name):
     r = row(name)
-    # Measured: at most 2 steady phases missed and 1 spurious per clip.
-    assert r["phases_matched"] >= r["phases_true"] - 2
-    assert r["phases_found"] - r["phases_matched"] <= 1
+    # Measured: at most 1 steady phase missed per clip (the last one of the
+    # 60 fps clip, the walking-away clip), none spurious. A found phase is
+    # spurious when it overlaps no true window by half its length.
+    assert r["phases_matched"] >= r["phases_true"] - 1
+    assert r["phases_spurious"] == 0
 
 
 def test_walking_away_assigns_sides():
@@ -65,8 +67,9 @@ def test_walking_away_assigns_sides():
 @pytest.mark.parametrize("name", [n for n in CLIPS if n != "truth_walk_away"])
 def test_foot_off_timing_toward(name):
     r = row(name)
-    # Foot off, walking toward: measured median 11-85 ms (target 33 ms).
-    assert r["foot_off_median_ms"] <= 90
+    # Foot off, walking toward: measured median 9-21 ms (target 33 ms met);
+    # single outliers up to 195 ms remain (target: none beyond 100 ms).
+    assert r["foot_off_median_ms"] <= 33
 
 
 @pytest.mark.xfail(strict=True, reason="target not met yet: per-side lean error up to 1.33 deg (see note)")
@@ -88,7 +91,7 @@ def test_target_event_timing_one_frame():
 def test_target_every_phase_found():
     for n in CLIPS:
         r = row(n)
-        assert r["phases_matched"] == r["phases_true"] and r["phases_found"] == r["phases_matched"], n
+        assert r["phases_matched"] == r["phases_true"] and r["phases_spurious"] == 0, n
 
 
 @pytest.mark.xfail(strict=True, reason="target not met yet: pose-model hip points give pelvic drop of the wrong sign")

@@ -18,7 +18,7 @@ from lean_video.gait_clean import (
     butter_sos, fill_short_gaps, keypoints_to_track, lowpass_irregular, repair_swaps,
 )
 from lean_video.gait_events import walking_direction
-from lean_video.gait_frontal import drop_short_contacts, foot_centre_events
+from lean_video.gait_frontal import drop_short_contacts, foot_centre_events, order_events
 
 try:
     from tests.gait_walker import make_walk, match_events
@@ -382,7 +382,7 @@ def _gauss_cdf(x):
     return 0.5 * (1 + np.vectorize(math.erf)(x / math.sqrt(2)))
 
 
-def test_foot_off_toward_at_peak_upward_velocity_of_foot_centre():
+def test_foot_off_toward_at_peak_upward_velocity_of_toe():
     # Known answer: the foot centre rises 20 px along a Gaussian-CDF profile,
     # so its upward velocity peaks exactly at t_peak (between two frames).
     t = np.arange(0, 2, 1 / 30)
@@ -393,11 +393,20 @@ def test_foot_off_toward_at_peak_upward_velocity_of_foot_centre():
     out = foot_centre_events(track, t, "left", iv, direction="toward")
     assert out[0][1] == pytest.approx(t_peak, abs=0.004)
     assert out[0][0] == 0.4  # foot strike is well seen toward the camera: unchanged
-    # the other foot's strike bounds the search from below (double support):
-    # no turning point after it, so the position-based time is kept
+    # the other foot's strike, less a 0.1 s margin for strikes found late,
+    # bounds the search from below (double support): a strike at 1.05 s still
+    # admits the peak at 1.013 s ...
     other = [(1.05, 1.6, 31, 48, True, True)]
     out = foot_centre_events(track, t, "left", iv, direction="toward", other_intervals=other)
-    assert out[0][1] == 1.1
+    assert out[0][1] == pytest.approx(t_peak, abs=0.004)
+    # ... one at 1.15 s does not (position-based foot off at 1.2 s): no turning
+    # point after 1.05 s, the position-based time is kept
+    other = [(1.15, 1.6, 34, 48, True, True)]
+    late = [(0.4, 1.2, 12, 36, True, True)]
+    out = foot_centre_events(track, t, "left", late, direction="toward", other_intervals=other)
+    assert out[0][1] == 1.2
+    with pytest.raises(LeanVideoError, match="off_point must be 'toe' or 'centre'"):
+        foot_centre_events(track, t, "left", iv, direction="toward", off_point="heel")
     # walking away foot off is well seen and kept
     assert foot_centre_events(track, t, "left", iv, direction="away")[0][1] == 1.1
 
@@ -434,3 +443,39 @@ def test_short_mid_swing_contact_is_dropped():
     assert n == 1 and (1.9, 2.1, 57, 63, True, True) not in kept
     assert kept[0] == iv[0] and kept[-1] == iv[-1]
     assert drop_short_contacts(iv[:3]) == (iv[:3], 0)  # too few full contacts to judge
+
+
+# --- event order (order_events) ----------------------------------------------
+
+def test_strike_after_other_foot_off_is_resolved_by_the_event_the_view_hides():
+    # Left lands at 1.15 s, but the right foot was found leaving at 1.10 s:
+    # impossible in walking (double support; Perry & Burnfield 2010, from memory).
+    left = [(0.2, 0.9, 6, 27, True, True), (1.15, 1.9, 34, 57, True, True)]
+    right = [(0.65, 1.10, 19, 33, True, True), (1.75, 2.4, 52, 72, True, True)]
+    l2, r2, n = order_events(left, right, direction="toward")
+    # toward the camera the strike is the late one: moved back to the foot off
+    assert n == 1 and l2[1][0] == 1.10 and r2 == right and l2[0] == left[0]
+    l3, r3, n = order_events(left, right, direction="away")
+    # away from the camera the foot off is the early one: moved on to the strike
+    assert n == 1 and r3[0][1] == 1.15 and l3 == left and r3[1] == right[1]
+
+
+def test_consistent_or_distant_events_are_left_alone():
+    left = [(0.2, 0.9, 6, 27, True, True), (1.15, 1.9, 34, 57, True, True)]
+    right = [(0.65, 1.25, 19, 37, True, True)]          # proper double support 1.15-1.25
+    assert order_events(left, right, direction="toward") == (left, right, 0)
+    gap = [(0.65, 0.80, 19, 24, True, True)]            # 0.35 s apart: not the same step
+    assert order_events(left, gap, direction="toward") == (left, gap, 0)
+    unseen = [(0.65, 1.10, 19, 33, True, False)]        # foot off not seen: nothing to compare
+    assert order_events(left, unseen, direction="toward") == (left, unseen, 0)
+    with pytest.raises(LeanVideoError, match="direction must be 'toward' or 'away'"):
+        order_events(left, right, direction="sideways")
+
+
+def test_event_order_option_is_recorded():
+    w = make_walk(direction="toward", noise_px=0.5, seed=1)
+    on = analyse_keypoints(w.keypoints, width=w.width, height=w.height)
+    off = analyse_keypoints(w.keypoints, width=w.width, height=w.height, event_order=False)
+    assert on.summary["settings"]["event_order"] is True and off.summary["settings"]["event_order"] is False
+    assert on.summary["quality"]["n_events_reordered"] >= 0
+    assert off.summary["quality"]["n_events_reordered"] == 0

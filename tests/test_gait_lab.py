@@ -73,8 +73,8 @@ def lab(request):
 
 # Measured (this code, 30 fps virtual clip), signed error found - annotated:
 #   toward: foot strike median -21 ms, max |e| 37 ms (18 of 19 inner events);
-#           foot off    median -27 ms, max |e| 101 ms (19 of 19; -4 ms before the
-#           frontal-view re-timing, which the synthetic clips need: see gait_events)
+#           foot off    median -4 ms, max |e| 101 ms (19 of 19; with the toe's
+#           peak upward velocity, gait_frontal; -27 ms with the foot centre's)
 #   away:   foot strike median -15 ms, max |e| 66 ms (18 of 19);
 #           foot off    median -21 ms, max |e| 41 ms (18 of 19)
 # Unmatched events sit next to the partial first/last steps of a pass.

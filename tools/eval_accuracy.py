@@ -63,7 +63,16 @@ def phase_match(strides: pd.DataFrame, truth: dict) -> dict:
             matched += 1
             lean_err.append(float(same.iloc[int(np.argmax(overlap.to_numpy()))]["lean_mean_deg"]
                                   - w["mean_lean_toward_stance_deg"]))
-    return {"true": len(true_w), "matched": matched, "found": int(len(strides)), "phase_lean_err": lean_err}
+    # A found phase is spurious only if it matches no true window at all: phases
+    # the clip edges exclude from the count above are real, not spurious.
+    all_w = [w for w in truth["single_support"] if w["end_s"] > 0 and w["start_s"] < duration]
+    spurious = 0
+    for _, ph in strides.iterrows():
+        hit = [w for w in all_w if w["stance_side"] == ph["stance_side"]
+               and min(ph["end_s"], w["end_s"]) - max(ph["start_s"], w["start_s"]) > 0.5 * (ph["end_s"] - ph["start_s"])]
+        spurious += not hit
+    return {"true": len(true_w), "matched": matched, "found": int(len(strides)), "spurious": spurious,
+            "phase_lean_err": lean_err}
 
 
 def evaluate(name: str) -> dict:
@@ -77,7 +86,7 @@ def evaluate(name: str) -> dict:
     ph = phase_match(analysis.strides, truth)
     row = {"clip": name, "direction_true": truth["direction"], "direction": s["direction"],
            "roll_true": truth["camera"]["roll_deg"], "roll": s["camera_roll_deg"], "roll_source": s["camera_roll_source"],
-           "phases_true": ph["true"], "phases_matched": ph["matched"], "phases_found": ph["found"],
+           "phases_true": ph["true"], "phases_matched": ph["matched"], "phases_found": ph["found"], "phases_spurious": ph["spurious"],
            "phase_lean_err_max": max(np.abs(ph["phase_lean_err"]), default=None)}
     for side in SIDES:
         got = s["sides"][side]
