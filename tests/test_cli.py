@@ -98,6 +98,10 @@ def test_analyse_store_history_export_forget(tmp_path):
         assert col in strides.columns
     html = (out / "a" / "report.html").read_text()
     assert "<script>x</script>" not in html
+    # how far each angle was checked travels with the numbers
+    assert summary["trunk_lean_method"]["per_side_error_max_deg"] > 0
+    assert summary["pelvic_obliquity_method"]["validated"] is False
+    assert 'id="lean-accuracy"' in html and "does not shrink with more steps" in html
     # Same clip again: the session is replaced, not duplicated; mass and height are remembered.
     again = cli("analyse", str(WALKER), "--out", str(out / "a"), "--client", "HP-077", "--date", "2026-09-01",
                 data_dir=data)

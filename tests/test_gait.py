@@ -479,3 +479,16 @@ def test_event_order_option_is_recorded():
     assert on.summary["settings"]["event_order"] is True and off.summary["settings"]["event_order"] is False
     assert on.summary["quality"]["n_events_reordered"] >= 0
     assert off.summary["quality"]["n_events_reordered"] == 0
+
+
+def test_foot_off_away_at_peak_upward_velocity_of_heel_when_asked():
+    # Known answer: the heel rises 25 px along a Gaussian-CDF profile with its
+    # fastest rise at t_peak; the position-based foot off (1.0 s) is early.
+    t = np.arange(0, 2, 1 / 30)
+    t_peak = 1.113
+    heel_y = 800 - 25 * _gauss_cdf((t - t_peak) / 0.05)
+    track = _foot(t, heel_y, heel_y + 15)
+    iv = [(0.3, 1.0, 9, 30, True, True)]
+    out = foot_centre_events(track, t, "left", iv, direction="away", away_off=True)
+    assert out[0][1] == pytest.approx(t_peak, abs=0.004)
+    assert foot_centre_events(track, t, "left", iv, direction="away")[0][1] == 1.0  # off by default

@@ -55,12 +55,13 @@ def phase_match(strides: pd.DataFrame, truth: dict) -> dict:
     """Found vs true single-support phases (complete, away from the clip ends), matched by overlap."""
     duration = truth["duration_s"]
     true_w = [w for w in truth["single_support"] if w["complete"] and w["start_s"] > 0.4 and w["end_s"] < duration - 0.4]
-    matched, lean_err = 0, []
+    matched, lean_err, coverage = 0, [], []
     for w in true_w:
         same = strides[strides["stance_side"] == w["stance_side"]]
         overlap = (np.minimum(same["end_s"], w["end_s"]) - np.maximum(same["start_s"], w["start_s"])).clip(lower=0)
         if len(same) and overlap.max() > 0.5 * (w["end_s"] - w["start_s"]):
             matched += 1
+            coverage.append(float(overlap.max() / (w["end_s"] - w["start_s"])))
             lean_err.append(float(same.iloc[int(np.argmax(overlap.to_numpy()))]["lean_mean_deg"]
                                   - w["mean_lean_toward_stance_deg"]))
     # A found phase is spurious only if it matches no true window at all: phases
@@ -72,7 +73,7 @@ def phase_match(strides: pd.DataFrame, truth: dict) -> dict:
                and min(ph["end_s"], w["end_s"]) - max(ph["start_s"], w["start_s"]) > 0.5 * (ph["end_s"] - ph["start_s"])]
         spurious += not hit
     return {"true": len(true_w), "matched": matched, "found": int(len(strides)), "spurious": spurious,
-            "phase_lean_err": lean_err}
+            "phase_lean_err": lean_err, "coverage": coverage}
 
 
 def evaluate(name: str) -> dict:
@@ -87,6 +88,7 @@ def evaluate(name: str) -> dict:
     row = {"clip": name, "direction_true": truth["direction"], "direction": s["direction"],
            "roll_true": truth["camera"]["roll_deg"], "roll": s["camera_roll_deg"], "roll_source": s["camera_roll_source"],
            "phases_true": ph["true"], "phases_matched": ph["matched"], "phases_found": ph["found"], "phases_spurious": ph["spurious"],
+           "phase_coverage_min": min(ph["coverage"], default=None),
            "phase_lean_err_max": max(np.abs(ph["phase_lean_err"]), default=None)}
     for side in SIDES:
         got = s["sides"][side]
