@@ -34,16 +34,16 @@ def row(name: str) -> dict:
 def test_direction_roll_and_lean(name):
     r = row(name)
     assert r["direction"] == r["direction_true"]
-    # Camera roll from the room's verticals, within 0.5 deg (issue target; measured <= 0.35).
+    # Camera roll from the room's verticals, within 0.5 deg (issue target; measured <= 0.08).
     assert r["roll"] == pytest.approx(r["roll_true"], abs=0.5)
     for side in ("left", "right"):
         err = r[f"{side}_lean_err"]
         if r[f"{side}_lean_true"] is None or err is None:
             continue
-        # Measured today: |error| <= 1.33 deg over all clips (target 1.0, see below).
+        # Measured today: |error| <= 1.28 deg over all clips, median 0.48 (target 1.0, see below).
         assert abs(err) <= 1.5, (side, err)
     if r["phase_lean_err_max"] is not None:
-        # Each matched phase's mean lean within 2.0 deg (issue target; measured <= 1.92).
+        # Each matched phase's mean lean within 2.0 deg (issue target; measured <= 1.72).
         assert r["phase_lean_err_max"] <= 2.0
 
 
@@ -55,6 +55,16 @@ def test_phases_found(name):
     # spurious when it overlaps no true window by half its length.
     assert r["phases_matched"] >= r["phases_true"] - 1
     assert r["phases_spurious"] == 0
+
+
+@pytest.mark.parametrize("name", CLIPS)
+def test_found_phases_cover_the_true_ones(name):
+    r = row(name)
+    # Each matched phase overlaps at least this share of its true window.
+    # Measured: 0.74-0.98 walking toward, 0.53 walking away (a plain
+    # speed-threshold detector covered only 55-65 % walking toward).
+    floor = 0.5 if r["direction_true"] == "away" else 0.7
+    assert r["phase_coverage_min"] is not None and r["phase_coverage_min"] >= floor
 
 
 def test_walking_away_assigns_sides():
@@ -72,7 +82,7 @@ def test_foot_off_timing_toward(name):
     assert r["foot_off_median_ms"] <= 33
 
 
-@pytest.mark.xfail(strict=True, reason="target not met yet: per-side lean error up to 1.33 deg (see note)")
+@pytest.mark.xfail(strict=True, reason="target not met yet: per-side lean error up to 1.28 deg (see note)")
 def test_target_per_side_lean_within_one_degree():
     errs = [abs(row(n)[f"{s}_lean_err"]) for n in CLIPS for s in ("left", "right")
             if row(n)[f"{s}_lean_err"] is not None and row(n)[f"{s}_lean_true"] is not None]
@@ -87,7 +97,7 @@ def test_target_event_timing_one_frame():
             assert r[f"{kind}_median_ms"] <= 34 and r[f"{kind}_max_ms"] <= 100, (n, kind)
 
 
-@pytest.mark.xfail(strict=True, reason="target not met yet: a few steady phases missed per clip")
+@pytest.mark.xfail(strict=True, reason="target not met yet: 86 of 88 steady phases found (walking away, 60 fps clip end)")
 def test_target_every_phase_found():
     for n in CLIPS:
         r = row(n)
