@@ -31,8 +31,9 @@ PELVIS_METHOD = {
     "validated": False,
     "note": ("Measured from the pose model's two hip points. On rendered test walkers with a known pelvic drop "
              "of 2-4 degrees these points moved the wrong way (correlation -0.7 to -0.95 with the true "
-             "obliquity; per-side drop wrong in sign by 2-7 degrees), and a body-outline method tried instead "
-             "was not reliable either. Do not use these pelvic-drop numbers for clinical decisions; judge "
+             "obliquity; per-side drop wrong in sign by 2-7 degrees). Two body-outline methods tried instead were "
+             "not reliable either (per-side errors up to 6.6 and 2.6 degrees, the better one largely following "
+             "the trunk lean rather than the pelvis). Do not use these pelvic-drop numbers for clinical decisions; judge "
              "pelvic drop (Trendelenburg sign) by eye. Trunk lean is not affected."),
 }
 

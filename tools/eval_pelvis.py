@@ -16,6 +16,29 @@ whose outline touches a band around the forearm/hand landmarks dropped; the
 vertical shift that best aligns the mirrored left and right outline profiles
 (least squares over integer shifts, parabolic sub-pixel refinement) gives the
 height difference of the two sides. Engineering choice, no published source.
+
+Candidate "mirror" (and "mirror12"): the tilt of the mirror-symmetry axis of the
+segmentation mask in a band around the hips. The crop around the hip-landmark
+midpoint is rotated by each candidate angle (-12..12 deg in 0.5 deg steps,
+parabolic sub-step refinement); in the rotated frame the band of rows from
+1.0 (mirror12: 1.2) hip-landmark widths above to as far below the hip
+landmarks is mirrored about its own mask centroid column, and the angle with the
+least squared difference between band and mirror image wins (pixels near the
+forearm/hand landmarks, and their mirror images, are left out). The hip line is
+taken perpendicular to that axis. Assumes a left-right symmetric body outline
+(clothing included) in the band, so the crotch, the thigh gap and the waist
+carry the tilt. Engineering choice, no published source. Measured on the 11
+rendered truth clips (2026-12-02, MediaPipe masks at 960 px): per-side error
+max 2.61 deg (mirror) / 2.55 deg (mirror12), mean 1.05 / 1.06 deg; mirror12 has
+the wrong sign in two left-stance windows. Not a pelvis measurement: over the 22
+per-side windows the mirror estimate regresses as 0.42 x true drop + 0.46 x
+trunk lean toward stance (mirror12: 0.23 and 0.25), and the band choice moves
+it strongly (1.0 over-, 1.2 under-estimates), so it missed the 1.5 deg target.
+
+Candidate "bump": on each side the lateral-most point of the outline (vertex
+of a least-squares parabola fitted to the lateral outline distance over rows
+0.4 hip widths above to 0.6 below the hip landmarks); the line through the two
+vertices. Fails (no vertex) whenever a hand lies on the outline.
 """
 from __future__ import annotations
 
@@ -115,13 +138,96 @@ def outline_points(mask, lm):
     return np.array([[xm - w, yh - s / 2], [xm + w, yh + s / 2]])
 
 
+def _arm_mask(shape, lm, x0, y0, r):
+    arm = np.zeros(shape, np.uint8)
+    for a, b in ARM:
+        pa, pb = lm[a, :2], lm[b, :2]
+        if np.isfinite(pa).all() and np.isfinite(pb).all():
+            cv2.line(arm, (int(pa[0] - x0), int(pa[1] - y0)), (int(pb[0] - x0), int(pb[1] - y0)), 255, 2 * r)
+    return arm
+
+
+def mirror_tilt_deg(mask, lm, *, band=(-1.0, 1.0), arm_r=0.15, grid_deg=np.arange(-12.0, 12.01, 0.5)):
+    """Clockwise (on screen) tilt of the mask's mirror axis near the hips, or NaN.
+
+    A shape tilted clockwise by t (its image-right side lower) becomes symmetric
+    after a counter-clockwise rotation by t, which is what the search finds.
+    """
+    hips = lm[23:25, :2]
+    if not np.isfinite(hips).all():
+        return np.nan
+    hw = abs(hips[0, 0] - hips[1, 0]) + 1e-6
+    xm, yh = hips[:, 0].mean(), hips[:, 1].mean()
+    H, W = mask.shape
+    R = int(2.5 * hw)
+    x0, y0 = int(round(xm)) - R, int(round(yh)) - R
+    crop = np.zeros((2 * R, 2 * R), np.float32)
+    ys, xs, ye, xe = max(0, y0), max(0, x0), min(H, y0 + 2 * R), min(W, x0 + 2 * R)
+    crop[ys - y0:ye - y0, xs - x0:xe - x0] = mask[ys:ye, xs:xe] / 255.0
+    arm = _arm_mask(crop.shape, lm, x0, y0, max(2, int(arm_r * hw)))
+    c = (xm - x0, yh - y0)
+    r0, r1 = int(R + band[0] * hw), int(R + band[1] * hw)
+    costs = []
+    for th in grid_deg:
+        M = cv2.getRotationMatrix2D(c, float(th), 1.0)   # counter-clockwise on screen by th
+        B = cv2.warpAffine(crop, M, crop.shape[::-1], flags=cv2.INTER_LINEAR)[r0:r1]
+        A = cv2.warpAffine(arm, M, crop.shape[::-1], flags=cv2.INTER_NEAREST)[r0:r1] > 0
+        wgt = B * ~A
+        cx = (wgt.sum(0) * np.arange(B.shape[1])).sum() / max(wgt.sum(), 1e-6)
+        flip = np.float32([[-1, 0, 2 * cx], [0, 1, 0]])
+        F = cv2.warpAffine(B, flip, B.shape[::-1], flags=cv2.INTER_LINEAR)
+        FA = cv2.warpAffine(A.astype(np.uint8), flip, B.shape[::-1], flags=cv2.INTER_NEAREST) > 0
+        ok = ~(A | FA)
+        costs.append(((B - F) ** 2)[ok].sum() / max(ok.sum(), 1))
+    costs = np.array(costs); k = int(np.argmin(costs))
+    off = 0.0
+    if 0 < k < len(costs) - 1:
+        den = costs[k - 1] - 2 * costs[k] + costs[k + 1]
+        off = 0.5 * (costs[k - 1] - costs[k + 1]) / den if den > 0 else 0.0
+    return float(grid_deg[k] + off * (grid_deg[1] - grid_deg[0]))
+
+
+def mirror_points(mask, lm, **kw):
+    """(2, 2) points on the line perpendicular to the mirror axis; NaN if none."""
+    t = mirror_tilt_deg(mask, lm, **kw)
+    if not np.isfinite(t):
+        return np.full((2, 2), np.nan)
+    hips = lm[23:25, :2]; mid = hips.mean(0); hw = abs(hips[0, 0] - hips[1, 0])
+    d = np.array([np.cos(np.radians(t)), np.sin(np.radians(t))]) * hw / 2   # y down: +t lowers image right
+    return np.array([mid - d, mid + d])
+
+
+def _parabola_vertex(y, x, min_rows=5):
+    ok = np.isfinite(x)
+    if ok.sum() < min_rows:
+        return np.nan, np.nan
+    c = np.polyfit(y[ok], x[ok], 2)
+    if c[0] >= 0:
+        return np.nan, np.nan
+    yv = -c[1] / (2 * c[0])
+    if not y[ok].min() <= yv <= y[ok].max():
+        return np.nan, np.nan
+    return yv, np.polyval(c, yv)
+
+
+def bump_points(mask, lm, band=(-0.4, 0.6)):
+    """(2, 2) lateral-most outline points [image-left, image-right]; NaN if not found."""
+    pr = outline_profiles(mask, lm, band=band)
+    if pr is None:
+        return np.full((2, 2), np.nan)
+    pa, pb, yh, xm, hw = pr
+    y = int(max(0, yh + band[0] * hw)) + np.arange(len(pa)) + 0.5
+    ya, wa = _parabola_vertex(y, pa); yb, wb = _parabola_vertex(y, pb)
+    return np.array([[xm - wa, ya], [xm + wb, yb]])
+
+
 def obliquity_deg(p_left, p_right, roll_deg):
     r = np.radians(roll_deg)
     up = np.array([np.sin(r), -np.cos(r)]); hz = np.array([np.cos(r), np.sin(r)])
     return np.degrees(np.arctan2((p_right - p_left) @ up, np.abs((p_left - p_right) @ hz)))
 
 
-def evaluate(mp4: Path, cache: Path) -> None:
+def evaluate(mp4: Path, cache: Path, errors: dict) -> None:
     truth = json.loads(mp4.with_suffix(".truth.json").read_text())
     npz = cache / (mp4.stem + ".npz")
     if not npz.exists():
@@ -135,6 +241,9 @@ def evaluate(mp4: Path, cache: Path) -> None:
         "hips": lm[:, [23, 24], :2],
         "knees": lm[:, [25, 26], :2],
         "outline": np.array([outline_points(mask[i], lm[i]) for i in range(n)]),
+        "bump": np.array([bump_points(mask[i], lm[i]) for i in range(n)]),
+        "mirror": np.array([mirror_points(mask[i], lm[i], band=(-1.0, 1.0)) for i in range(n)]),
+        "mirror12": np.array([mirror_points(mask[i], lm[i], band=(-1.2, 1.2)) for i in range(n)]),
     }
     for name, P in methods.items():
         # Sides from image geometry (as the gait stage does): toward the camera
@@ -145,7 +254,7 @@ def evaluate(mp4: Path, cache: Path) -> None:
         ob = obliquity_deg(pl, pr, truth["camera"]["roll_deg"])
         ok = np.isfinite(ob)
         r = np.corrcoef(ob[ok], true_ob[ok])[0, 1]
-        line = f"{mp4.stem:26s} {name:8s} r={r:+.2f}"
+        line = f"{mp4.stem:26s} {name:8s} r={r:+.2f} valid {ok.mean():.2f}"
         for side in ("right", "left"):
             est, tru = [], []
             for ss in truth["single_support"]:
@@ -154,7 +263,9 @@ def evaluate(mp4: Path, cache: Path) -> None:
                     if w.any():
                         est.append((1 if side == "right" else -1) * ob[w].mean()); tru.append(ss["mean_pelvic_drop_deg"])
             if est:
-                line += f" | {side}-stance drop est {np.mean(est):+.2f} true {np.mean(tru):+.2f}"
+                err = np.mean(est) - np.mean(tru)
+                errors.setdefault(name, []).append(err)
+                line += f" | {side}-stance drop est {np.mean(est):+.2f} true {np.mean(tru):+.2f} err {err:+.2f}"
         print(line)
 
 
@@ -164,10 +275,14 @@ def main() -> None:
     ap.add_argument("--cache", type=Path, default=Path("/tmp/pelvis_cache"))
     a = ap.parse_args()
     a.cache.mkdir(parents=True, exist_ok=True)
+    errors: dict = {}
     for c in a.clips:
         # 10 kB skips the placeholder file of a clip still being rendered.
         if c.stat().st_size > 10_000 and c.with_suffix(".truth.json").exists():
-            evaluate(c, a.cache)
+            evaluate(c, a.cache, errors)
+    for name, e in errors.items():
+        e = np.abs(e)
+        print(f"{name:8s} per-side error over all clips: max {np.nanmax(e):.2f} deg, mean {np.nanmean(e):.2f} deg, n={len(e)}")
 
 
 if __name__ == "__main__":
