@@ -98,6 +98,10 @@ def evaluate(name: str) -> dict:
             got["pelvic_drop_mean_deg"] - ts[side]["drop"]
         row[f"{side}_lean_true"] = ts[side]["lean"]
         row[f"{side}_drop_true"] = ts[side]["drop"]
+    lean_true = np.asarray(truth["per_frame"]["lean_2d_deg"], float)
+    n = min(len(lean_true), len(analysis.frames))
+    diff = analysis.frames["trunk_lean_deg"].to_numpy()[:n] - lean_true[:n]
+    row["lean_frame_bias_deg"] = float(np.nanmean(diff)) if np.isfinite(diff).any() else None
     for kind, errs in ev.items():
         row[f"{kind}_median_ms"] = float(np.median(np.abs(errs))) if errs else None
         row[f"{kind}_max_ms"] = float(np.max(np.abs(errs))) if errs else None
