@@ -87,11 +87,12 @@ def _job(name: str, clip: str) -> dict:
         from lean_video.pose import run_pose
 
         frames = run_pose(clip, use_cache=False).n_frames
-    elif name in ("analyse", "reanalyse"):
+    elif name in ("analyse", "reanalyse", "analyse_no_mirror"):
         from lean_video import pipeline, report
 
         cache = os.environ["BENCH_CACHE"]
-        analysis = pipeline.analyse(clip, cache_dir=cache)
+        options = pipeline.AnalysisOptions(pose_mirror_average=name != "analyse_no_mirror")
+        analysis = pipeline.analyse(clip, cache_dir=cache, options=options)
         with tempfile.TemporaryDirectory() as out:
             pipeline.write_outputs(analysis, out)
             html = report.render_session_report(analysis.summary, analysis.frames, analysis.strides,
@@ -123,7 +124,8 @@ def main() -> int:
     with tempfile.TemporaryDirectory() as tmp:
         cache = Path(tmp) / "cache"
         plan = [("decode", "1080p_30s"), ("plain_loop", "1080p_30s"), ("decode_pose", "1080p_30s"),
-                ("analyse", "1080p_30s"), ("reanalyse", "1080p_30s"), ("decode", "4k_30s"),
+                ("analyse", "1080p_30s"), ("reanalyse", "1080p_30s"), ("analyse_no_mirror", "1080p_30s"),
+                ("decode", "4k_30s"),
                 ("analyse", "4k_30s"), ("analyse", "4k_60s")]
         for name, key in plan:
             clip = clips[key]

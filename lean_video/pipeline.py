@@ -39,15 +39,17 @@ PELVIS_METHOD = {
 
 #: How trunk lean is measured and how far it was checked (stated in every summary and report).
 LEAN_METHOD = {
-    "source": "pose-model shoulder and hip landmarks (mid-hip to mid-shoulder line against the roll-corrected vertical)",
-    "validated_on": "11 rendered walking clips with exact truth (tools/eval_accuracy.py, 2026-12-02)",
-    "per_side_error_median_deg": 0.5,
-    "per_side_error_max_deg": 1.3,
-    "note": ("On 11 rendered test walks with a known lean, the per-side mean lean was within 1.3 degrees of the "
-             "truth (median 0.5). Part of this error is a bias of the pose model that differed between clips "
-             "(-0.4 to +0.7 degrees per frame, from lighting and build) and does not shrink with more steps, so "
-             "the 95% interval shown covers step-to-step variation only. Treat a per-side difference or a change "
-             "between sessions below about 1.5 degrees with caution. Accuracy on real clients is not yet measured."),
+    "source": ("pose-model shoulder and hip landmarks, each the average of the model's answers on the frame and on "
+               "its mirror image (mid-hip to mid-shoulder line against the roll-corrected vertical)"),
+    "validated_on": "13 rendered walking clips with exact truth (tools/eval_accuracy.py, 2026-12-02)",
+    "per_side_error_median_deg": 0.3,
+    "per_side_error_max_deg": 1.2,
+    "note": ("On 13 rendered test walks with a known lean, the per-side mean lean was within 1.2 degrees of the "
+             "truth (median 0.3; without the mirror-image pass, option --no-mirror: 1.3 and 0.5). Part of this "
+             "error is a bias of the pose model that differed between clips (-0.2 to +0.6 degrees per frame, "
+             "from lighting and build) and does not shrink with more steps, so the 95% interval shown covers "
+             "step-to-step variation only. Treat a per-side difference or a change between sessions below "
+             "about 1.5 degrees with caution. Accuracy on real clients is not yet measured."),
 }
 
 #: Version of the scene cache's content; bump when the scene checks change.
@@ -71,6 +73,8 @@ class AnalysisOptions:
     mass_kg, height_m : float or None
         Body mass and height for the hip model; None uses the model defaults,
         flagged in the output.
+    pose_max_side_px, pose_workers, pose_mirror_average
+        Pose-stage settings, see :class:`lean_video.pose.PoseSettings`.
     """
 
     camera_roll_deg: float | None = None
@@ -79,6 +83,7 @@ class AnalysisOptions:
     height_m: float | None = None
     pose_max_side_px: int = 960
     pose_workers: int = 0
+    pose_mirror_average: bool = True
 
 
 @dataclass(frozen=True)
@@ -104,7 +109,8 @@ def _load_keypoints(input_path: Path, options: AnalysisOptions, *, cache_dir, pr
         return table, clip, None, {"source": "keypoints folder"}, ()
     from lean_video.capture import SCENE_SAMPLES
 
-    settings = pose.PoseSettings(max_side_px=options.pose_max_side_px, workers=options.pose_workers)
+    settings = pose.PoseSettings(max_side_px=options.pose_max_side_px, workers=options.pose_workers,
+                                 mirror_average=options.pose_mirror_average)
     run = pose.run_pose(input_path, settings=settings, cache_dir=cache_dir, progress=progress,
                         n_samples=SCENE_SAMPLES)
     clip = {k: v for k, v in run.clip.to_dict().items() if k != "path"}

@@ -27,6 +27,19 @@ full-resolution frame, enlarged and given to a still-image instance of the
 model; when nobody has been seen yet (the clip starts with a far figure), the
 frame is searched in overlapping windows. Landmarks are mapped back to
 full-frame pixels.
+
+Mirror averaging: the model is also run on the left-right mirror image of
+each frame (a second tracker, so both keep their own tracking state), its
+answer is mirrored back with left and right labels exchanged, and the two are
+averaged landmark by landmark (:func:`merge_mirrored`). An error the model
+makes the same way in every picture (a lean of the shoulder line toward one
+side of the image, say) then cancels, while the body's real asymmetry, which
+mirrors with the picture, is kept; independent errors are halved in variance.
+This is test-time augmentation by flipping, common with image models (for
+pose, e.g. Newell et al. 2016, "Stacked Hourglass Networks", ECCV, from
+memory). Measured on the 11 rendered truth clips: the per-clip bias of the
+per-frame trunk lean fell from -0.43..+0.67 to -0.16..+0.52 degrees, and its
+frame-to-frame SD by about a quarter.
 """
 
 from __future__ import annotations
@@ -100,6 +113,12 @@ class PoseSettings:
     min_split_duration_s : float
         Clips shorter than this run in one process: starting a second one
         (about 2 s to load the model) costs more than it saves.
+    mirror_average : bool
+        Also run the model on the mirror image of every frame and average the
+        two answers (see :func:`merge_mirrored`); doubles the model time.
+    mirror_tolerance : float
+        Largest distance, as a share of the person's height in the picture,
+        between a landmark and its mirrored answer for the two to be averaged.
     """
 
     model_complexity: int = 1
@@ -114,6 +133,8 @@ class PoseSettings:
     workers: int = 0
     overlap_s: float = 1.0
     min_split_duration_s: float = 10.0
+    mirror_average: bool = True
+    mirror_tolerance: float = 0.05
 
     def key(self) -> str:
         """Short stable hash of the settings that change results, and the model version."""
@@ -192,6 +213,60 @@ def _landmarks_array(result, *, x0: float, y0: float, sx: float, sy: float) -> n
     raw[:, 1] = y0 + raw[:, 1] * sy
     raw[:, 2] *= sx
     return raw
+
+
+def _mirror_name(name: str) -> str:
+    for a, b in (("left", "right"), ("right", "left")):
+        if a in name:
+            return name.replace(a, b)
+    return name
+
+
+#: Index of each landmark's mirror partner (left_hip <-> right_hip, nose -> nose).
+MIRROR_INDEX = np.array([LANDMARK_NAMES.index(_mirror_name(n)) for n in LANDMARK_NAMES])
+
+
+def merge_mirrored(plain: np.ndarray, mirrored: np.ndarray | None, *, tolerance_px: float) -> np.ndarray:
+    """Average the model's answer on a frame with its answer on the mirror image.
+
+    Parameters
+    ----------
+    plain : ndarray (33, 5)
+        x_px, y_px, z, visibility, presence from the upright frame.
+    mirrored : ndarray (33, 5) or None
+        The answer on the mirror image, already mapped back to the upright
+        frame's pixels with left and right labels exchanged
+        (:data:`MIRROR_INDEX`). None when the mirror pass found nobody.
+    tolerance_px : float, keyword-only
+        A landmark is averaged only where the two answers lie within this
+        distance of each other; elsewhere (a left/right mix-up in one of the
+        two, a lost track) the plain answer is kept, so averaging never puts a
+        point between two different body parts.
+
+    Returns
+    -------
+    ndarray (33, 5)
+        Averaged positions, depth, visibility and presence where the answers
+        agree, the plain answer elsewhere.
+    """
+    if mirrored is None:
+        return plain
+    if not tolerance_px > 0:
+        raise LeanVideoError(f"tolerance_px must be positive, got {tolerance_px}; use 5 % of the person's height.")
+    dist = np.hypot(*(plain[:, :2] - mirrored[:, :2]).T)
+    agree = np.isfinite(dist) & (dist <= tolerance_px)
+    out = plain.copy()
+    out[agree] = (plain[agree] + mirrored[agree]) / 2.0
+    return out
+
+
+def _mirror_pass(model, small: np.ndarray, width: int, height: int) -> np.ndarray | None:
+    """The model's answer on the mirror image, mapped back to the upright frame (see merge_mirrored)."""
+    lm = _landmarks_array(model.process(np.ascontiguousarray(small[:, ::-1])), x0=0.0, y0=0.0, sx=width, sy=height)
+    if lm is None:
+        return None
+    lm[:, 0] = width - lm[:, 0]
+    return lm[MIRROR_INDEX]
 
 
 def _person_box(lm: np.ndarray) -> tuple[float, float, float]:
@@ -392,6 +467,7 @@ def _track_range(path: str, settings: PoseSettings, seek_s: float | None, stop_s
     (as ``(time_s, rgb)``), kept so later stages need not decode again.
     """
     tracker = _new_model(settings, static=False)
+    mirror = _new_model(settings, static=False) if settings.mirror_average else None
     still = None
     times, data, recovered, samples = [], [], [], []
     pending = sorted(sample_times)
@@ -407,6 +483,9 @@ def _track_range(path: str, settings: PoseSettings, seek_s: float | None, stop_s
                 while pending and time_s >= pending[0]:
                     pending.pop(0)
             lm = _landmarks_array(tracker.process(small), x0=0.0, y0=0.0, sx=width, sy=height)
+            if lm is not None and mirror is not None:
+                lm = merge_mirrored(lm, _mirror_pass(mirror, small, width, height),
+                                    tolerance_px=settings.mirror_tolerance * max(_person_box(lm)[2], 1.0))
             found_by_crop = False
             if lm is None and settings.recover_far:
                 still = still or _new_model(settings, static=True)
@@ -427,6 +506,8 @@ def _track_range(path: str, settings: PoseSettings, seek_s: float | None, stop_s
     finally:
         frames.close()
         tracker.close()
+        if mirror is not None:
+            mirror.close()
         if still is not None:
             still.close()
     if not times:

@@ -4,7 +4,7 @@ For every clip in ``demo_clips/manifest.json``: run :func:`lean_video.pipeline.a
 and compare with the clip's truth JSON. Prints one row per clip; ``--json`` writes
 the rows too. The same comparison functions are used by ``tests/test_accuracy.py``.
 
-Usage: ``.venv/bin/python -m tools.eval_accuracy [--json out.json] [NAME ...]``
+Usage: ``.venv/bin/python -m tools.eval_accuracy [--json out.json] [--no-mirror] [NAME ...]``
 """
 
 from __future__ import annotations
@@ -76,11 +76,12 @@ def phase_match(strides: pd.DataFrame, truth: dict) -> dict:
             "phase_lean_err": lean_err, "coverage": coverage}
 
 
-def evaluate(name: str) -> dict:
+def evaluate(name: str, *, mirror: bool = True) -> dict:
     from lean_video import pipeline
 
     truth = json.loads((DEMO / f"{name}.truth.json").read_text())
-    analysis = pipeline.analyse(DEMO / f"{name}.mp4")
+    analysis = pipeline.analyse(DEMO / f"{name}.mp4",
+                                options=pipeline.AnalysisOptions(pose_mirror_average=mirror))
     s = analysis.summary
     ts = truth_sides(truth)
     ev = event_errors_ms(analysis.events, truth)
@@ -113,10 +114,11 @@ def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("names", nargs="*")
     parser.add_argument("--json", default=None)
+    parser.add_argument("--no-mirror", action="store_true", help="pose model without its mirror-image pass")
     args = parser.parse_args(argv)
     manifest = json.loads((DEMO / "manifest.json").read_text())
     names = args.names or [c["name"] for c in manifest["clips"]]
-    rows = [evaluate(n) for n in names]
+    rows = [evaluate(n, mirror=not args.no_mirror) for n in names]
     table = pd.DataFrame(rows).set_index("clip")
     with pd.option_context("display.width", 250, "display.max_columns", 40, "display.float_format", "{:.2f}".format):
         print(table.T.to_string())

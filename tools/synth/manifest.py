@@ -68,6 +68,20 @@ def default_manifest() -> dict:
                                          pelvic_drop_right_stance_deg=5),
          CameraParams(width_px=1080, height_px=1920), RoomParams(light_azimuth_deg=80, light_elevation_deg=40),
          {}, "1080x1920, heavier build"),
+        # Added after the methods were settled, to check them on configurations
+        # they were not developed on: pelvic drop with no lean, and a lean away
+        # from the stance leg plus a constant lean.
+        ("truth_drop_no_lean", WalkParams(seed=18, speed_m_s=0.95, height_m=1.66, width_scale=1.0,
+                                          pelvic_drop_right_stance_deg=6, pelvic_drop_left_stance_deg=2,
+                                          shirt_rgb=(0.55, 0.22, 0.2), trousers_rgb=(0.15, 0.15, 0.17)),
+         CameraParams(height_m=1.1, pitch_deg=-4.0), RoomParams(light_azimuth_deg=35, light_elevation_deg=60), {},
+         "pelvic drop 6/2 deg with no trunk lean"),
+        ("truth_contralateral_lean", WalkParams(seed=19, speed_m_s=0.9, height_m=1.78, width_scale=0.98,
+                                                lean_right_stance_deg=-3, lean_left_stance_deg=2,
+                                                lean_offset_deg=1.0, pelvic_drop_right_stance_deg=4,
+                                                shirt_rgb=(0.85, 0.8, 0.7), trousers_rgb=(0.3, 0.25, 0.2)),
+         CameraParams(height_m=1.2), RoomParams(light_azimuth_deg=-70, light_elevation_deg=45), {},
+         "trunk leaning away from the right stance leg, constant 1 deg lean to the right"),
     ]
     for name, walk, cam, room, video, desc in truth:
         clips.append(_entry(name, walk, cam, room, video, kind="truth", description=desc))
