@@ -317,7 +317,7 @@ def analyse_keypoints(
     if foot_centre_timing:
         intervals = {side: foot_centre_events(
             fc_track, time_s, side, intervals[side], direction=direction,
-            other_intervals=intervals[other], camera_roll_deg=camera_roll_deg)
+            other_intervals=intervals[other], camera_roll_deg=camera_roll_deg, scale_px=scale)
             for side, other in (("left", "right"), ("right", "left"))}
     n_reordered = 0
     if event_order:

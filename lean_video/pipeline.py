@@ -30,8 +30,9 @@ PELVIS_METHOD = {
     "source": "pose-model hip landmarks (line through left_hip and right_hip)",
     "validated": False,
     "note": ("Measured from the pose model's two hip points. On rendered test walkers with a known pelvic drop "
-             "of 2-4 degrees these points moved the wrong way (correlation -0.7 to -0.95 with the true "
-             "obliquity; per-side drop wrong in sign by 2-7 degrees). Two body-outline methods tried instead were "
+             "of up to 6 degrees these points moved the wrong way (correlation -0.7 to -0.95 with the true "
+             "obliquity; per-side drop off by up to 8 degrees, mostly in the wrong direction): their line "
+             "follows the trunk rather than the pelvis. Two body-outline methods tried instead were "
              "not reliable either (per-side errors up to 6.6 and 2.6 degrees, the better one largely following "
              "the trunk lean rather than the pelvis). Do not use these pelvic-drop numbers for clinical decisions; judge "
              "pelvic drop (Trendelenburg sign) by eye. Trunk lean is not affected."),

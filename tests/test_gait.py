@@ -481,7 +481,7 @@ def test_event_order_option_is_recorded():
     assert off.summary["quality"]["n_events_reordered"] == 0
 
 
-def test_foot_off_away_at_peak_upward_velocity_of_heel_when_asked():
+def test_foot_off_away_at_peak_upward_velocity_of_heel():
     # Known answer: the heel rises 25 px along a Gaussian-CDF profile with its
     # fastest rise at t_peak; the position-based foot off (1.0 s) is early.
     t = np.arange(0, 2, 1 / 30)
@@ -489,6 +489,15 @@ def test_foot_off_away_at_peak_upward_velocity_of_heel_when_asked():
     heel_y = 800 - 25 * _gauss_cdf((t - t_peak) / 0.05)
     track = _foot(t, heel_y, heel_y + 15)
     iv = [(0.3, 1.0, 9, 30, True, True)]
-    out = foot_centre_events(track, t, "left", iv, direction="away", away_off=True)
+    out = foot_centre_events(track, t, "left", iv, direction="away")
     assert out[0][1] == pytest.approx(t_peak, abs=0.004)
-    assert foot_centre_events(track, t, "left", iv, direction="away")[0][1] == 1.0  # off by default
+    assert foot_centre_events(track, t, "left", iv, direction="away", away_off=False)[0][1] == 1.0
+    # Body 1000 px tall: at the position-based foot off the heel is 0.3 px up,
+    # far below 6 % of body height, so the toe is taken as the model's guess ...
+    scale = np.full(len(t), 1000.0)
+    out = foot_centre_events(track, t, "left", iv, direction="away", scale_px=scale)
+    assert out[0][1] == pytest.approx(t_peak, abs=0.004)
+    # ... while with the heel already 80 px (8 %) up, the foot off is kept
+    raised = _foot(t, np.where(t < 0.8, 800.0, 720.0) - 25 * _gauss_cdf((t - t_peak) / 0.05), heel_y + 15)
+    kept = foot_centre_events(raised, t, "left", iv, direction="away", scale_px=scale)
+    assert kept[0][1] == 1.0
