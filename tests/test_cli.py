@@ -66,7 +66,7 @@ def test_hip_model_json_matches_library():
 
 @pytest.mark.slow
 def test_pose_command_writes_handover(tmp_path):
-    out = cli("pose", str(WALKER), "--out", str(tmp_path))
+    out = cli("pose", str(WALKER), "--out", str(tmp_path), "--no-mirror")  # the faster pose pass
     assert out.returncode == 0, out.stderr
     table = pd.read_csv(tmp_path / "keypoints.csv")
     clip = json.loads((tmp_path / "clip.json").read_text())
@@ -92,6 +92,8 @@ def test_analyse_store_history_export_forget(tmp_path):
     summary = json.loads((out / "a" / "summary.json").read_text())
     assert summary["clip"]["sha256"] and summary["version"] == __version__
     assert summary["settings"]["analysis"]["mass_kg"] == 80
+    assert summary["settings"]["analysis"]["pose_mirror_average"] is True
+    assert summary["pose"]["settings"]["mirror_average"] is True
     strides = pd.read_csv(out / "a" / "strides.csv")
     for col in ("lever_arm_cm", "lever_arm_shortening_cm", "lever_arm_shortening_pct", "abductor_force_bw",
                 "hip_force_bw", "hip_force_change_pct", "hip_force_n"):
