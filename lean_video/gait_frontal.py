@@ -23,6 +23,7 @@ import numpy as np
 from lean_video.errors import LeanVideoError
 from lean_video.gait_clean import PAIRS
 
+
 def _peak_time(t, s, i):
     """Sub-frame time of the local maximum of s at sample i (parabola through i-1, i, i+1)."""
     if i <= 0 or i >= len(s) - 1 or not np.all(np.isfinite(s[i - 1:i + 2])):
@@ -30,6 +31,18 @@ def _peak_time(t, s, i):
     den = s[i - 1] - 2 * s[i] + s[i + 1]
     f = 0.0 if den >= 0 else float(np.clip(0.5 * (s[i - 1] - s[i + 1]) / den, -0.5, 0.5))
     return float(t[i] + f * (t[i + 1] - t[i] if f > 0 else t[i] - t[i - 1]))
+
+
+def _velocity_peak(time_s, velocity, lo, hi):
+    """Sub-frame time of the largest positive ``velocity`` strictly inside ``[lo, hi]``, or None."""
+    sel = np.flatnonzero((time_s >= lo) & (time_s <= hi))
+    sel = sel[np.isfinite(velocity[sel])]
+    if len(sel) < 3:
+        return None
+    j = sel[np.argmax(velocity[sel])]
+    if sel[0] < j < sel[-1] and velocity[j] > 0:
+        return _peak_time(time_s, velocity, j)
+    return None
 
 
 def _heel_settled(time_s, heel_up, j, settle_s=0.1, rest_s=0.3):
@@ -192,20 +205,14 @@ def foot_centre_events(
             prior = [iv[0] for iv in other_intervals if iv[4] and t_o - 2 * window_before_s < iv[0] < t_o]
             if prior:
                 lo = max(lo, max(prior) - strike_margin_s)
-            sel = np.flatnonzero((time_s >= lo) & (time_s <= t_o + window_after_s))
-            sel = sel[np.isfinite(v_up[sel])]
-            if len(sel) >= 3:
-                j = sel[np.argmax(v_up[sel])]
-                if sel[0] < j < sel[-1] and v_up[j] > 0:
-                    t_o = max(_peak_time(time_s, v_up, j), t_s)
+            peak = _velocity_peak(time_s, v_up, lo, t_o + window_after_s)
+            if peak is not None:
+                t_o = max(peak, t_s)
         if o_seen and direction == "away" and away_off and (
                 scale_px is None or _heel_rise(time_s, heel_up, scale_px, t_s, t_o) < away_off_max_rise):
-            sel = np.flatnonzero((time_s >= t_o - window_after_s) & (time_s <= t_o + window_before_s))
-            sel = sel[np.isfinite(v_heel[sel])]
-            if len(sel) >= 3:
-                j = sel[np.argmax(v_heel[sel])]
-                if sel[0] < j < sel[-1] and v_heel[j] > 0:
-                    t_o = max(_peak_time(time_s, v_heel, j), t_s)
+            peak = _velocity_peak(time_s, v_heel, t_o - window_after_s, t_o + window_before_s)
+            if peak is not None:
+                t_o = max(peak, t_s)
         out.append((t_s, t_o, i0, i1, s_seen, o_seen))
     return out
 
