@@ -119,8 +119,8 @@ class PoseSettings:
     mirror_tolerance : float
         Largest distance, as a share of the person's height in the picture,
         between a landmark and its mirrored answer for the two to be averaged
-        (engineering choice, no source: well above the model's frame-to-frame
-        jitter of about 1 %, well below the distance between two body parts).
+        (engineering choice, no source: well below the distance between two
+        neighbouring body parts, so a left/right mix-up is never averaged).
     """
 
     model_complexity: int = 1
