@@ -84,6 +84,7 @@ def foot_centre_events(
     track: dict[str, np.ndarray], time_s: np.ndarray, side: str, intervals: list, *,
     direction: str, other_intervals: list = (), camera_roll_deg: float = 0.0,
     window_before_s: float = 0.25, window_after_s: float = 0.07, strike_window_s: float = 0.17,
+    off_window_after_s: float = 0.15,
     off_point: str = "toe", strike_margin_s: float = 0.1, away_off: bool = True,
     away_off_max_rise: float = 0.06, scale_px: np.ndarray | None = None,
 ) -> list:
@@ -108,12 +109,22 @@ def foot_centre_events(
       Measured on the ten rendered clips walking toward the camera, median
       absolute error 9-40 ms with the toe against 11-85 ms with the foot
       centre. Searched within ``[t_off - window_before_s, t_off +
-      window_after_s]`` of the position-based foot off, but not before the
+      off_window_after_s]`` of the position-based foot off, but not before the
       other foot's last foot strike less ``strike_margin_s``: a foot leaves
       the floor only after the other one has landed (double support, about
       10 % of the cycle each; Perry & Burnfield 2010, Gait Analysis, 2nd ed.,
       ch. 1, from memory), and the margin allows for that strike being found
-      late (+45..+100 ms toward the camera on the rendered clips).
+      late (+45..+100 ms toward the camera on the rendered clips). The
+      position-based foot off can itself be early: the pose model draws the
+      foot flatter than it is, so its toe rises with the heel in terminal
+      stance and leaves the footprint before the real toe off (130 ms early
+      on one rendered clip, where the toe's real peak lay 0.10 s after it).
+      Hence the search reaches ``off_window_after_s`` = 0.15 s past it; the
+      toe moves down in the image soon after foot off (its approach
+      dominates), so no later upward peak competes. Measured on the 13
+      rendered clips: any value from 0.12 to 0.2 s gave the same phases, and
+      0.07 s (the window used before) left that clip's left lean 1.19 deg
+      under the truth (0.95 with 0.15).
     * away, foot strike: the heel's highest image point. While the heel
       recedes it rises in the image; once it is on the floor it stops, so
       the turning point is the end of its recession (the heel's extreme
@@ -148,6 +159,9 @@ def foot_centre_events(
         Foot point whose upward velocity times foot off toward the camera.
     strike_margin_s : float, keyword-only
         How far before the other foot's detected strike the foot-off search may start.
+    off_window_after_s : float, keyword-only
+        How far after the position-based foot off the toe's peak is searched
+        (toward the camera); see above.
     away_off : bool, keyword-only
         Walking away, also re-time foot off, at the heel's peak upward image
         velocity within ``[t_off - window_after_s, t_off + window_before_s]``:
@@ -205,7 +219,7 @@ def foot_centre_events(
             prior = [iv[0] for iv in other_intervals if iv[4] and t_o - 2 * window_before_s < iv[0] < t_o]
             if prior:
                 lo = max(lo, max(prior) - strike_margin_s)
-            peak = _velocity_peak(time_s, v_up, lo, t_o + window_after_s)
+            peak = _velocity_peak(time_s, v_up, lo, t_o + off_window_after_s)
             if peak is not None:
                 t_o = max(peak, t_s)
         if o_seen and direction == "away" and away_off and (

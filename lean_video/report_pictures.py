@@ -220,7 +220,7 @@ def lever_arm_svg(upright_cm: float, lean_cm: float, lean_deg: float, side: str,
     px = min(px_per_cm, 250.0 / longest)
     colour = {"left": "#1a7f78", "right": "#c27c0e"}.get(side, "#55606a")
     x0, w, h = 150, 150 + longest * px + 70, 150
-    rows = [(f"Upright (0°)", upright_cm, "#7d868d", 40), (f"Your lean ({lean_deg:.1f}°)", lean_cm, colour, 92)]
+    rows = [("Upright (0°)", upright_cm, "#7d868d", 40), (f"Your lean ({lean_deg:.1f}°)", lean_cm, colour, 92)]
     parts = [f'<svg class="lever" width="{w:.0f}" height="{h}" '
              f'viewBox="0 0 {w:.0f} {h}" role="img" aria-label="lever arms to scale">']
     for label, cm, col, y in rows:

@@ -384,7 +384,6 @@ class Walker:
         for side, c in SIDES:
             k, ph = self._leg_phase(side, t)
             sf = p.stance_fraction
-            fp = self.foot_points(side)
             if ph < sf:
                 rf, target, ryaw, pitch = self._stance_foot(side, k, ph)
                 # Toes stay flat on the floor once the foot is flat (metatarsal rocker).

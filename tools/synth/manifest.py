@@ -82,6 +82,22 @@ def default_manifest() -> dict:
                                                 shirt_rgb=(0.85, 0.8, 0.7), trousers_rgb=(0.3, 0.25, 0.2)),
          CameraParams(height_m=1.2), RoomParams(light_azimuth_deg=-70, light_elevation_deg=45), {},
          "trunk leaning away from the right stance leg, constant 1 deg lean to the right"),
+        # Added after the foot-event and lean methods were settled (2026-12-02,
+        # third round), measured as rendered: a walking line off the camera axis
+        # with a slow, short-stepped gait, and a fast walk seen from a low camera.
+        ("truth_offset_slow", WalkParams(seed=20, speed_m_s=0.6, cadence_steps_min=88, stance_fraction=0.64,
+                                         lateral_offset_m=0.45, step_width_m=0.15, height_m=1.58,
+                                         width_scale=1.1, lean_right_stance_deg=5, lean_left_stance_deg=1,
+                                         pelvic_drop_right_stance_deg=3, start_distance_m=6.5,
+                                         shirt_rgb=(0.3, 0.3, 0.32), trousers_rgb=(0.1, 0.12, 0.25)),
+         CameraParams(height_m=1.0, pitch_deg=-4.0), RoomParams(light_azimuth_deg=10, light_elevation_deg=65), {},
+         "walking line 0.45 m off the camera axis, slow short steps"),
+        ("truth_low_camera_fast", WalkParams(seed=21, speed_m_s=1.25, cadence_steps_min=114, height_m=1.84,
+                                             width_scale=0.96, lateral_offset_m=-0.25, lean_right_stance_deg=2,
+                                             lean_left_stance_deg=5, pelvic_drop_left_stance_deg=2,
+                                             start_distance_m=8.0, shirt_rgb=(0.75, 0.55, 0.2)),
+         CameraParams(height_m=0.8, pitch_deg=-1.0), RoomParams(light_azimuth_deg=-30, light_elevation_deg=50), {},
+         "fast walk, camera 0.8 m high, walking line 0.25 m to the other side"),
     ]
     for name, walk, cam, room, video, desc in truth:
         clips.append(_entry(name, walk, cam, room, video, kind="truth", description=desc))

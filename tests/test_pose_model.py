@@ -1,0 +1,68 @@
+"""The BlazePose model on single frames: landmark names, mirror averaging, window search."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from lean_video import pose_model
+from lean_video.errors import LeanVideoError
+
+
+def test_landmark_names_are_mediapipes_own():
+    # Reference: the landmark enumeration of the installed MediaPipe itself.
+    import mediapipe as mp
+
+    assert pose_model.LANDMARK_NAMES == tuple(lm.name.lower() for lm in mp.solutions.pose.PoseLandmark)
+
+
+def test_tile_windows_cover_the_frame():
+    boxes = pose_model._tile_boxes(720, 1280)
+    xs = [b[0] for b in boxes]
+    ys = [b[1] for b in boxes]
+    assert min(xs) - 360 / 2 <= 0 and max(xs) + 360 / 2 >= 720
+    assert min(ys) - 360 / 2 <= 0 and max(ys) + 360 / 2 >= 1280
+
+
+# --- mirror averaging ---------------------------------------------------------
+
+def test_mirror_index_pairs_left_and_right():
+    from lean_video.pose_model import LANDMARK_NAMES, MIRROR_INDEX
+
+    names = list(LANDMARK_NAMES)
+    assert names[MIRROR_INDEX[names.index("left_hip")]] == "right_hip"
+    assert names[MIRROR_INDEX[names.index("right_foot_index")]] == "left_foot_index"
+    assert names[MIRROR_INDEX[names.index("mouth_left")]] == "mouth_right"
+    assert names[MIRROR_INDEX[names.index("nose")]] == "nose"
+    assert (MIRROR_INDEX[MIRROR_INDEX] == np.arange(len(names))).all()  # exchanging twice is no change
+
+
+def test_merge_mirrored_averages_only_where_the_answers_agree():
+    from lean_video.pose_model import merge_mirrored
+
+    plain = np.zeros((33, 5))
+    plain[:, 0] = np.arange(33) * 10.0
+    plain[:, 3:] = 1.0
+    mirrored = plain.copy()
+    # A constant 2 px shift of the model's answer in the picture: the mirrored
+    # answer carries it with the opposite sign, the average removes it.
+    plain[:, 0] += 2.0
+    mirrored[:, 0] -= 2.0
+    mirrored[5, :2] += 40.0           # one landmark mixed up in the mirror pass
+    mirrored[7, 3] = 0.5              # lower visibility there: averaged too
+    out = merge_mirrored(plain, mirrored, tolerance_px=10.0)
+    ok = np.ones(33, bool)
+    ok[5] = False
+    assert out[ok, 0] == pytest.approx(np.arange(33)[ok] * 10.0)
+    assert out[5] == pytest.approx(plain[5])  # disagreement: the plain answer is kept
+    assert out[7, 3] == pytest.approx(0.75)
+    assert merge_mirrored(plain, None, tolerance_px=10.0) is plain
+    with pytest.raises(LeanVideoError, match="tolerance_px must be positive"):
+        merge_mirrored(plain, mirrored, tolerance_px=0.0)
+
+
+def test_mirror_average_is_part_of_the_cache_key():
+    from lean_video.pose_model import PoseSettings
+
+    assert PoseSettings().mirror_average is True
+    assert PoseSettings().key() != PoseSettings(mirror_average=False).key()
