@@ -308,19 +308,24 @@ def capture_checks(keypoints: pd.DataFrame, clip: dict, summary: dict, *,
     checks.append(_check("phases_per_side", _grade(n_min, PHASE_LIMITS), n_min,
                          f"fewest single-support phases on one side: {n_min}",
                          "film a longer walk, or two or three passes, to get at least three steps on each side"))
-    checks.append(direction_check(keypoints, summary.get("direction")))
+    checks.append(direction_check(keypoints, summary.get("direction"), summary.get("passes")))
     checks.extend(extra)
     return checks
 
 
-def direction_check(keypoints: pd.DataFrame, direction: str | None) -> dict:
+def direction_check(keypoints: pd.DataFrame, direction: str | None, passes: list | None = None) -> dict:
     """Does the apparent body size change the same way through the whole clip?
 
     Spearman's rank correlation (scipy.stats.spearmanr) of body height in the
     picture against time: near +1 for a straight walk toward the camera, near
-    -1 walking away, near 0 when the client turns or wanders in view.
+    -1 walking away, near 0 when the client turns or wanders in view. A walk
+    with turns between clear passes (``passes`` from the analysis, or found
+    here with :func:`lean_video.gait_passes.find_passes`) passes the check:
+    each pass is analysed with its own direction.
     """
     from scipy.stats import spearmanr
+
+    from lean_video.gait_passes import find_passes
 
     y = _wide(keypoints, "y_px")
     t = keypoints.groupby("frame")["time_s"].first().reindex(y.index).to_numpy()
@@ -329,13 +334,21 @@ def direction_check(keypoints: pd.DataFrame, direction: str | None) -> dict:
     if ok.sum() < 5:
         return _check("direction", "fail", None, "too few frames with the client to tell the walking direction",
                       "film the client walking straight toward the camera")
+    if passes is None:
+        passes = [{"start_s": p.start_s, "end_s": p.end_s, "direction": p.direction}
+                  for p in find_passes(size[ok], t[ok])]
+    if len(passes) > 1:
+        listed = ", ".join(f"{p['direction']} {p['start_s']:.1f}-{p['end_s']:.1f} s" for p in passes)
+        return _check("direction", "pass", len(passes),
+                      f"{len(passes)} passes ({listed}), each analysed with its own walking direction",
+                      "")
     rho = float(spearmanr(t[ok], size[ok]).statistic)
     agree = abs(rho)
     status = "pass" if agree >= 0.8 else ("warn" if agree >= 0.6 else "fail")
-    walking = direction or ("toward" if rho > 0 else "away from")
+    walking = {"toward": "toward", "away": "away from"}.get(direction or ("toward" if rho > 0 else "away"))
     return _check("direction", status, round(rho, 2),
                   f"walking {walking} the camera; size-time rank correlation {rho:+.2f}",
-                  "film one straight pass toward the camera, without turning in view")
+                  "film straight passes toward or away from the camera, turning only at the ends of the corridor")
 
 
 def roll_check(roll: RollChoice) -> dict:

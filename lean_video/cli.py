@@ -348,6 +348,27 @@ def divert_native_stderr() -> None:
         pass  # no real descriptor 2 (embedded use): leave stderr alone
 
 
+def _caused_by_interrupt(exc: BaseException) -> bool:
+    """Was ``exc`` raised while a Ctrl-C was being handled?
+
+    Ctrl-C reaches the pose worker processes too; while the main process
+    shuts them down, a pipe to a dead worker can break, and that error
+    replaces the KeyboardInterrupt (it keeps it as its context).
+    """
+    seen = set()
+    while exc is not None and id(exc) not in seen:
+        if isinstance(exc, KeyboardInterrupt):
+            return True
+        seen.add(id(exc))
+        exc = exc.__cause__ or exc.__context__
+    return False
+
+
+def _interrupted() -> int:
+    print("lean-video: interrupted; nothing was stored for this run.", file=sys.stderr)
+    return EXIT_INTERRUPTED
+
+
 def main(argv: list[str] | None = None) -> int:
     """Entry point of the ``lean-video`` console script."""
     parser = build_parser()
@@ -360,19 +381,24 @@ def main(argv: list[str] | None = None) -> int:
     _configure_logging(args)
     try:
         return int(args.func(args) or 0)
+    except KeyboardInterrupt:
+        return _interrupted()
     except LeanVideoError as exc:
+        if _caused_by_interrupt(exc):
+            return _interrupted()
         if args.debug:
             raise
         print(f"lean-video: error: {exc}", file=sys.stderr)
         return exc.exit_code
-    except BrokenPipeError:
+    except BrokenPipeError as exc:
+        if _caused_by_interrupt(exc):
+            return _interrupted()
         # The reader went away (e.g. piped into 'head'): not an error of ours.
         os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
         return 0
-    except KeyboardInterrupt:
-        print("lean-video: interrupted; nothing was stored for this run.", file=sys.stderr)
-        return EXIT_INTERRUPTED
     except Exception as exc:  # noqa: BLE001 - the last line of defence for a clinician
+        if _caused_by_interrupt(exc):
+            return _interrupted()
         if args.debug:
             raise
         print(f"lean-video: unexpected error ({type(exc).__name__}: {exc}); run again with --debug "

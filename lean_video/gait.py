@@ -195,6 +195,39 @@ def _cadence(events: pd.DataFrame) -> float | None:
     return float(60.0 / np.median(d)) if d.size else None
 
 
+def summarise_sides(strides: pd.DataFrame, events: pd.DataFrame, warnings: list[str]) -> dict:
+    """Per-side statistics, cadence and left/right asymmetry of a set of phases.
+
+    Appends to ``warnings`` what is missing (fewer than three phases on a
+    side, no cadence, no asymmetry).
+
+    Returns
+    -------
+    dict
+        ``cadence_steps_per_min``, ``sides`` and ``asymmetry`` (see
+        :func:`analyse_keypoints`).
+    """
+    sides = {side: _side_summary(strides, side) for side in SIDES}
+    for side in SIDES:
+        n = sides[side]["n_phases"]
+        if n < 3:
+            warnings.append(f"only {n} usable {side} single-support phase(s); means are unreliable and SD/CI need at least 2 (film a longer walk)")
+    cadence = _cadence(events)
+    if cadence is None:
+        warnings.append("cadence could not be computed: fewer than two consecutive foot strikes")
+    asym = {}
+    for key in ("lean_mean_deg", "pelvic_drop_mean_deg", "single_support_mean_s"):
+        lv, rv = sides["left"][key], sides["right"][key]
+        asym[f"{key}_left_minus_right"] = None if lv is None or rv is None else lv - rv
+    ssl, ssr = sides["left"]["single_support_mean_s"], sides["right"]["single_support_mean_s"]
+    # Symmetry index, Robinson et al. 1987, J Manipulative Physiol Ther 10:172-176 (from memory).
+    asym["single_support_symmetry_index_pct"] = (
+        None if ssl is None or ssr is None else 100.0 * (ssl - ssr) / (0.5 * (ssl + ssr)))
+    if any(v is None for v in asym.values()):
+        warnings.append("left/right asymmetry is missing where a side has no usable phase")
+    return {"cadence_steps_per_min": cadence, "sides": sides, "asymmetry": asym}
+
+
 def analyse_keypoints(
     keypoints: pd.DataFrame, *, width: int, height: int, camera_roll_deg: float = 0.0,
     cutoff_hz: float = 6.0, min_visibility: float = 0.5, max_gap_s: float = 0.1,
@@ -202,7 +235,7 @@ def analyse_keypoints(
     contact_off_fraction: float = 0.3, min_phase_s: float = 0.15, max_phase_s: float = 1.0,
     max_missing_fraction: float = 0.2, footprint_tolerance: float = 0.01,
     contact_points: str = "centroid", foot_centre_timing: bool = True,
-    foot_centre_cutoff_hz: float = 10.0, event_order: bool = True,
+    foot_centre_cutoff_hz: float = 10.0, event_order: bool = True, summarise: bool = True,
 ) -> GaitResult:
     """Find foot events, single-support phases, trunk lean and pelvic obliquity.
 
@@ -242,6 +275,11 @@ def analyse_keypoints(
     event_order : bool, keyword-only
         Resolve a foot strike found after the other foot's foot off by moving
         the event the view hides, see :func:`lean_video.gait_frontal.order_events`.
+    summarise : bool, keyword-only
+        False leaves out ``sides``, ``cadence_steps_per_min`` and
+        ``asymmetry`` (and their warnings) and logs nothing: used to analyse
+        the passes of a clip one by one and summarise them together
+        (:mod:`lean_video.gait_passes`).
 
     Returns
     -------
@@ -358,30 +396,10 @@ def analyse_keypoints(
         "valid": np.isfinite(lean) & np.isfinite(obliq),
     })
 
-    sides = {side: _side_summary(strides, side) for side in SIDES}
-    for side in SIDES:
-        n = sides[side]["n_phases"]
-        if n < 3:
-            warnings.append(f"only {n} usable {side} single-support phase(s); means are unreliable and SD/CI need at least 2 (film a longer walk)")
-    cadence = _cadence(events)
-    if cadence is None:
-        warnings.append("cadence could not be computed: fewer than two consecutive foot strikes")
-    asym = {}
-    for key in ("lean_mean_deg", "pelvic_drop_mean_deg", "single_support_mean_s"):
-        lv, rv = sides["left"][key], sides["right"][key]
-        asym[f"{key}_left_minus_right"] = None if lv is None or rv is None else lv - rv
-    ssl, ssr = sides["left"]["single_support_mean_s"], sides["right"]["single_support_mean_s"]
-    # Symmetry index, Robinson et al. 1987, J Manipulative Physiol Ther 10:172-176 (from memory).
-    asym["single_support_symmetry_index_pct"] = (
-        None if ssl is None or ssr is None else 100.0 * (ssl - ssr) / (0.5 * (ssl + ssr)))
-    if any(v is None for v in asym.values()):
-        warnings.append("left/right asymmetry is missing where a side has no usable phase")
     summary = {
         "direction": direction,
         "camera_roll_deg": float(camera_roll_deg),
-        "cadence_steps_per_min": cadence,
-        "sides": sides,
-        "asymmetry": asym,
+        **(summarise_sides(strides, events, warnings) if summarise else {}),
         "quality": {
             "n_frames": int(len(frame)),
             "n_valid_frames": int(frames["valid"].sum()),
@@ -396,6 +414,7 @@ def analyse_keypoints(
         },
         "settings": settings,
     }
-    for w in warnings:
-        log.warning(w)
+    if summarise:
+        for w in warnings:
+            log.warning(w)
     return GaitResult(frames=frames, events=events, strides=strides, summary=summary)

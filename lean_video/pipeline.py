@@ -173,7 +173,7 @@ def analyse(
     -------
     Analysis
     """
-    from lean_video import capture, gait, mechanics, posture
+    from lean_video import capture, gait_passes, mechanics, posture
 
     capture.check_user_roll(options.camera_roll_deg)
     path = Path(input_path)
@@ -189,8 +189,8 @@ def analyse(
     measured = keypoints
     if camera.motion is not None:
         measured = _stabilised(keypoints, camera.motion)
-    result = gait.analyse_keypoints(measured, width=width, height=height, camera_roll_deg=roll.roll_deg,
-                                    cutoff_hz=options.cutoff_hz)
+    result = gait_passes.analyse_walk(measured, width=width, height=height, camera_roll_deg=roll.roll_deg,
+                                      cutoff_hz=options.cutoff_hz)
     strides = mechanics.add_mechanics_columns(result.strides, mass_kg=options.mass_kg, height_m=options.height_m)
     mech_info = dict(strides.attrs.get("mechanics", {}))
     strides.attrs = {}

@@ -130,3 +130,38 @@ def test_roll_clip_corrected_from_scene():
     for side in ("left", "right"):
         assert analysis.summary["sides"][side]["lean_mean_deg"] == pytest.approx(expected[side]["lean"], abs=1.0)
     json.dumps(analysis.summary, allow_nan=False)
+
+
+def _size_track(distance_m, fps=30.0):
+    """Keypoint table of two landmarks whose vertical spacing is a pinhole image of a 1.7 m body."""
+    t = np.arange(len(distance_m)) / fps
+    size = 1000.0 * 1.7 / np.asarray(distance_m, float)
+    rows = [(i, ti, name, 360.0, y, 0.0, 0.99, 0.99)
+            for i, (ti, s) in enumerate(zip(t, size)) for name, y in (("nose", 640 - s / 2), ("left_heel", 640 + s / 2))]
+    import pandas as pd
+
+    return pd.DataFrame(rows, columns=["frame", "time_s", "landmark", "x_px", "y_px", "z", "visibility", "presence"])
+
+
+def test_direction_check_straight_walk_and_wording():
+    # Straight walk away (2 -> 7 m): size falls all the way, rank correlation -1.
+    check = capture.direction_check(_size_track(np.linspace(2, 7, 150)), "away")
+    assert check["status"] == "pass" and check["value"] == -1.0
+    assert check["detail"].startswith("walking away from the camera")
+
+
+def test_direction_check_accepts_a_walk_there_and_back():
+    # 4 s toward (7 -> 3 m), 2 s turning, 4 s away: two passes, each analysed on its own.
+    t = np.arange(0, 10, 1 / 30)
+    d = np.where(t < 4, 7 - t, np.where(t < 6, 3.0, 3 + (t - 6)))
+    check = capture.direction_check(_size_track(d), None)
+    assert check["status"] == "pass" and check["value"] == 2
+    assert "toward" in check["detail"] and "away" in check["detail"]
+
+
+def test_direction_check_fails_wandering_in_view():
+    # Back and forth by half a metre several times: no pass, no clear direction.
+    t = np.arange(0, 10, 1 / 30)
+    check = capture.direction_check(_size_track(5 + 0.25 * np.sin(2 * np.pi * 0.4 * t)), None)
+    assert check["status"] == "fail"
+    assert "turning only at the ends" in check["suggestion"]
