@@ -138,6 +138,15 @@ def test_analyse_store_history_export_forget(tmp_path):
     assert not (out / "history.html").exists() and not (out / "a" / "report.html").exists()
 
 
+def _sigint_as_at_a_terminal():
+    # A shell that runs the test suite in the background (`bash .ci/run &`)
+    # starts its children with SIGINT ignored (POSIX, asynchronous lists), and
+    # Python then never raises KeyboardInterrupt: the run would finish with
+    # exit 0. Restore the default disposition, as at a terminal, where the
+    # clinician presses Ctrl-C.
+    signal.signal(signal.SIGINT, signal.SIG_DFL)
+
+
 @pytest.mark.slow
 @pytest.mark.parametrize("sig", [signal.SIGINT, signal.SIGKILL])
 def test_interrupted_run_leaves_nothing_half_written(tmp_path, sig):
@@ -145,7 +154,8 @@ def test_interrupted_run_leaves_nothing_half_written(tmp_path, sig):
     env = {**os.environ, "LEAN_VIDEO_DATA_DIR": str(data), "LEAN_VIDEO_CACHE_DIR": str(tmp_path / "fresh_cache")}
     proc = subprocess.Popen([sys.executable, "-m", "lean_video.cli", "analyse", str(WALKER), "--out", str(out),
                              "--client", "HP-050", "--date", "2026-09-01"], env=env,
-                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, start_new_session=True)
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, start_new_session=True,
+                            preexec_fn=_sigint_as_at_a_terminal)
     time.sleep(4.0)  # well inside pose estimation
     assert proc.poll() is None, "the run finished before it could be interrupted"
     os.killpg(proc.pid, sig)
@@ -208,7 +218,7 @@ def test_demo_runs_with_network_blocked(tmp_path):
 @pytest.mark.parametrize("late", [BrokenPipeError("worker pipe"), RuntimeError("pool broken")])
 def test_ctrl_c_that_breaks_a_worker_pipe_still_exits_130(monkeypatch, capsys, late):
     # Ctrl-C also stops the pose workers; shutting them down can raise a second
-    # error whose context is the KeyboardInterrupt. Seen once in CI as exit 0.
+    # error whose context is the KeyboardInterrupt: still an interruption.
     from lean_video import cli
 
     def interrupted_then_broken(args):

@@ -425,6 +425,15 @@ def test_foot_strike_away_when_heel_halfway_down_from_highest_image_point():
     out = foot_centre_events(track, t, "left", iv, direction="away")
     assert out[0][0] == pytest.approx(t_turn + 2 / 60, abs=0.002)
     assert foot_centre_events(track, t, "left", iv, direction="toward")[0][0] == 1.12
+    # The other foot's (position-based, found early) foot off at 1.15 s bounds
+    # the search only up to 0.1 s after it: the turn at 1.207 s is still found ...
+    other = [(0.5, 1.15, 15, 35, True, True)]
+    out = foot_centre_events(track, t, "left", iv, direction="away", other_intervals=other)
+    assert out[0][0] == pytest.approx(t_turn + 2 / 60, abs=0.002)
+    # ... but not without the margin (the search then ends before the turn).
+    out = foot_centre_events(track, t, "left", iv, direction="away", other_intervals=other,
+                             away_strike_margin_s=0.0)
+    assert out[0][0] == 1.12
 
 
 def test_foot_centre_timing_rejects_bad_cutoff():

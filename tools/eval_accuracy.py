@@ -99,6 +99,16 @@ def evaluate(name: str, *, mirror: bool = True) -> dict:
             got["pelvic_drop_mean_deg"] - ts[side]["drop"]
         row[f"{side}_lean_true"] = ts[side]["lean"]
         row[f"{side}_drop_true"] = ts[side]["drop"]
+    ss_true = {}
+    for side in SIDES:
+        w = [x["end_s"] - x["start_s"] for x in truth["single_support"] if x["stance_side"] == side and x["complete"]]
+        ss_true[side] = float(np.mean(w)) if w else None
+        got = s["sides"][side].get("single_support_mean_s")
+        row[f"{side}_ss_err_s"] = None if got is None or ss_true[side] is None else got - ss_true[side]
+    si = s.get("asymmetry", {}).get("single_support_symmetry_index_pct")
+    si_true = None if None in ss_true.values() else \
+        100.0 * (ss_true["left"] - ss_true["right"]) / (0.5 * (ss_true["left"] + ss_true["right"]))
+    row["ss_symmetry_index_err_pct"] = None if si is None or si_true is None else si - si_true
     lean_true = np.asarray(truth["per_frame"]["lean_2d_deg"], float)
     n = min(len(lean_true), len(analysis.frames))
     diff = analysis.frames["trunk_lean_deg"].to_numpy()[:n] - lean_true[:n]
