@@ -370,5 +370,42 @@ def peak_pictures(analysis: Analysis) -> dict:
         side, lean, t = wanted[index]
         rows = kp[kp["frame"] == index]
         points = {r.landmark: (float(r.x_px), float(r.y_px)) for r in rows.itertuples() if np.isfinite(r.x_px)}
+        points = client_side_labels(points, direction=_direction_at(analysis.summary, t))
         out[side] = {"rgb": rgb, "keypoints": points, "lean_deg": lean, "time_s": t}
     return out
+
+
+def _direction_at(summary: dict, time_s: float) -> str:
+    """Walking direction of the pass holding ``time_s`` (the clip's direction outside every pass)."""
+    for p in summary.get("passes") or []:
+        if p["start_s"] - 1e-6 <= time_s <= p["end_s"] + 1e-6:
+            return p["direction"]
+    return summary.get("direction") or "toward"
+
+
+def client_side_labels(points: dict, *, direction: str) -> dict:
+    """Relabel one frame's landmarks so left and right are the client's own.
+
+    The pose model's labels are not trusted for this (they flip in back
+    views); as in the gait stage, geometry decides: facing the camera the
+    client's left hip and shoulder appear on the image right, seen from behind
+    on the image left. When the model's hips and shoulders (summed) say the
+    opposite, every left/right name is exchanged, so the picture colours the
+    legs of the stance side the table names.
+    """
+    if direction not in ("toward", "away"):
+        raise LeanVideoError(f"direction must be 'toward' or 'away', got {direction!r}; use the summary's.")
+    dx = [points[f"left_{part}"][0] - points[f"right_{part}"][0] for part in ("hip", "shoulder")
+          if f"left_{part}" in points and f"right_{part}" in points]
+    want = 1.0 if direction == "toward" else -1.0
+    if not dx or np.sign(sum(dx)) * want >= 0:
+        return dict(points)
+
+    def other(name: str) -> str:
+        if name.startswith("left_"):
+            return "right_" + name[5:]
+        if name.startswith("right_"):
+            return "left_" + name[6:]
+        return name
+
+    return {other(name): xy for name, xy in points.items()}

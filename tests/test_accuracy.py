@@ -40,7 +40,7 @@ def test_direction_roll_and_lean(name):
         err = r[f"{side}_lean_err"]
         if r[f"{side}_lean_true"] is None or err is None:
             continue
-        # Measured today: |error| <= 1.03 deg over all 15 clips, median 0.32 (target 1.0, see below;
+        # Measured today: |error| <= 1.03 deg over all 15 clips, median 0.30 (target 1.0, see below;
         # 0.95 on the 13 clips the methods were developed on); without the mirror-image pass of the
         # pose model (first 11 clips) 1.28 and 0.48.
         assert abs(err) <= 1.5, (side, err)

@@ -1,0 +1,40 @@
+"""Pipeline helpers that need no video: client sides of a picture's landmarks."""
+
+from __future__ import annotations
+
+import pytest
+
+from lean_video.errors import LeanVideoError
+from lean_video.pipeline import _direction_at, client_side_labels
+
+# Facing the camera, the client's left hip and shoulder are on the image right.
+FACING = {"left_hip": (420.0, 800.0), "right_hip": (300.0, 800.0), "left_shoulder": (440.0, 500.0),
+          "right_shoulder": (280.0, 500.0), "left_knee": (410.0, 1000.0), "right_knee": (310.0, 1000.0),
+          "nose": (360.0, 380.0)}
+
+
+def test_labels_kept_when_they_match_the_walking_direction():
+    assert client_side_labels(FACING, direction="toward") == FACING
+
+
+def test_labels_exchanged_when_the_model_flipped_them():
+    # Seen from behind, the client's left is on the image left; the model kept the facing labels.
+    out = client_side_labels(FACING, direction="away")
+    assert out["left_hip"] == FACING["right_hip"] and out["right_knee"] == FACING["left_knee"]
+    assert out["nose"] == FACING["nose"]
+    assert client_side_labels(out, direction="away") == out
+
+
+def test_labels_without_hips_or_shoulders_are_kept_and_bad_direction_refused():
+    only_knees = {"left_knee": (1.0, 2.0), "right_knee": (3.0, 2.0)}
+    assert client_side_labels(only_knees, direction="away") == only_knees
+    with pytest.raises(LeanVideoError, match="direction must be 'toward' or 'away'"):
+        client_side_labels(FACING, direction="sideways")
+
+
+def test_direction_of_the_pass_holding_a_time():
+    summary = {"direction": "toward", "passes": [{"start_s": 0.0, "end_s": 4.5, "direction": "away"},
+                                                 {"start_s": 7.5, "end_s": 12.2, "direction": "toward"}]}
+    assert _direction_at(summary, 3.4) == "away"
+    assert _direction_at(summary, 9.0) == "toward"
+    assert _direction_at(summary, 6.0) == "toward"  # in the turn: the clip's direction
