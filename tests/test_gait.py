@@ -17,7 +17,7 @@ from lean_video.gait import analyse_keypoints, frame_angles
 from lean_video.gait_clean import (
     butter_sos, fill_short_gaps, keypoints_to_track, lowpass_irregular, repair_swaps,
 )
-from lean_video.gait_events import walking_direction
+from lean_video.gait_events import refine_event_times, walking_direction
 from lean_video.gait_frontal import drop_short_contacts, foot_centre_events, order_events
 
 try:
@@ -510,3 +510,58 @@ def test_foot_off_away_at_peak_upward_velocity_of_heel():
     raised = _foot(t, np.where(t < 0.8, 800.0, 720.0) - 25 * _gauss_cdf((t - t_peak) / 0.05), heel_y + 15)
     kept = foot_centre_events(raised, t, "left", iv, direction="away", scale_px=scale)
     assert kept[0][1] == 1.0
+
+
+# --- footprint tolerance shared by both feet ---------------------------------
+
+def _resting_foot(t, *, drift_px=0.0, jitter_px=0.0, seed=0):
+    """Left heel/ankle/toe landing at 0.5 s (from 60 px above), resting until 1.5 s, drifting and jittering at rest."""
+    rng = np.random.default_rng(seed)
+    y = np.where(t < 0.5, 700 - 120 * (0.5 - t), 700.0)
+    rest = (t >= 0.5) & (t <= 1.5)
+    y = y + rest * drift_px * (t - 0.5) + jitter_px * rng.normal(size=len(t)) * rest
+    track = {}
+    for k, name in enumerate(("left_heel", "left_ankle", "left_foot_index")):
+        track[name] = np.stack([np.full_like(t, 500.0 + 10 * k), y - 20 * k], 1)
+    for name in ("right_heel", "right_ankle", "right_foot_index"):
+        track[name] = np.full((len(t), 2), np.nan)
+    return track
+
+
+def test_refine_noise_override_and_detrended_noise():
+    t = np.arange(0, 2, 1 / 30)
+    scale = np.full(len(t), 1000.0)
+    iv = [(0.5, 1.5, 15, 45, True, True)]
+    drifting = _resting_foot(t, drift_px=8.0)
+    _, sigma = refine_event_times(drifting, t, "left", scale, iv)
+    _, jitter = refine_event_times(drifting, t, "left", scale, iv, detrend_noise=True)
+    # A straight slide at rest is drift, not jitter: about a line in time it leaves nothing.
+    assert sigma > 1e-3 and jitter < 1e-6
+    # A wider tolerance (larger noise level) declares the arrival earlier, never later.
+    early = refine_event_times(drifting, t, "left", scale, iv, sigma_rel=0.02)[0][0][0]
+    late = refine_event_times(drifting, t, "left", scale, iv, sigma_rel=0.0)[0][0][0]
+    assert early < late <= 0.5 + 1e-9
+    with pytest.raises(LeanVideoError, match="sigma_rel must be a non-negative number"):
+        refine_event_times(drifting, t, "left", scale, iv, sigma_rel=-1.0)
+
+
+def test_one_truly_noisier_foot_keeps_its_own_tolerance():
+    # One foot's points jittered by about 4 px (smoothed white noise): its
+    # jitter is 4-7 times the other's, more than max_jitter_ratio, so each
+    # foot keeps its own tolerance and the walk's equal sides stay equal
+    # (a shared level made a false symmetry index of up to 50 % here).
+    from scipy.ndimage import gaussian_filter1d
+
+    w = make_walk(direction="toward", noise_px=0.5, seed=1)
+    kp = w.keypoints.copy()
+    rng = np.random.default_rng(1)
+    n = kp["frame"].nunique()
+    for name in ("right_heel", "right_ankle", "right_foot_index"):
+        m = kp["landmark"] == name
+        for col in ("x_px", "y_px"):
+            kp.loc[m, col] += gaussian_filter1d(rng.normal(0, 1, n), 3) * 12
+    r = analyse_keypoints(kp, width=w.width, height=w.height)
+    assert abs(r.summary["asymmetry"]["single_support_symmetry_index_pct"]) <= 10
+    forced = analyse_keypoints(kp, width=w.width, height=w.height, max_jitter_ratio=100.0)
+    assert abs(forced.summary["asymmetry"]["single_support_symmetry_index_pct"]) > 20
+    assert r.summary["settings"]["shared_noise"] is True and r.summary["settings"]["max_jitter_ratio"] == 3.0
