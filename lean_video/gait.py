@@ -285,7 +285,7 @@ def analyse_keypoints(
         larger "noise", hence a wider footprint tolerance, and its strikes are
         declared early; walking toward, that arrival is the foot strike, so
         the two sides' single-support times came out unequal. Measured on the
-        14 rendered clips walking toward the camera (walks with equal sides):
+        first 14 rendered clips walking toward the camera (walks with equal sides):
         false left/right symmetry index up to 21 % with each foot's own level,
         11 % with the shared one; per-side lean max 1.03 -> 0.99 deg; every
         phase still found. Walking away, the strike is re-timed from the
@@ -299,7 +299,7 @@ def analyse_keypoints(
         differs by at most this factor. A truly noisier foot (say, partly
         hidden) needs its own wider tolerance: on the synthetic walker with
         one foot's points jittered by about 4 px, a shared level made a false
-        symmetry index of up to 50 %. Measured ratios: 1.1-2.3 on the 15
+        symmetry index of up to 50 %. Measured ratios: 1.1-2.3 on the 17
         rendered clips, 4.4-7.5 on that walker; 3 lies between (common
         practice, no source).
     summarise : bool, keyword-only

@@ -23,6 +23,22 @@ pytestmark = pytest.mark.slow
 CLIPS = [c["name"] for c in demo_manifest()["clips"]]
 _ROWS: dict[str, dict] = {}
 
+# Held-out clips rendered last and measured once as they were; where they miss
+# a target the case is a strict xfail, so a fix turns the suite red until the
+# mark is removed.
+SIDE_LIGHT = ("truth_strong_lean_24fps", "light from the side: per-frame lean biased +1.36 deg toward the "
+              "client's right (the mirror-image pass cannot cancel a bias that mirrors with the scene); "
+              "left lean 1.58 deg under")
+FAR_DIM = ("truth_tall_dim_roll", "far, dim: one foot strike found 330 ms late (the model's foot slid after "
+           "landing), 0.2 s past the other foot's foot off, so two phases were dropped (5 of 7 found)")
+
+
+def clips(*known: tuple[str, str]) -> list:
+    """CLIPS, with a strict xfail on the clips that are known to miss this test's target."""
+    reasons = dict(known)
+    return [pytest.param(n, marks=pytest.mark.xfail(strict=True, reason=reasons[n])) if n in reasons else n
+            for n in CLIPS]
+
 
 def row(name: str) -> dict:
     if name not in _ROWS:
@@ -30,7 +46,7 @@ def row(name: str) -> dict:
     return _ROWS[name]
 
 
-@pytest.mark.parametrize("name", CLIPS)
+@pytest.mark.parametrize("name", clips(SIDE_LIGHT))
 def test_direction_roll_and_lean(name):
     r = row(name)
     assert r["direction"] == r["direction_true"]
@@ -40,31 +56,32 @@ def test_direction_roll_and_lean(name):
         err = r[f"{side}_lean_err"]
         if r[f"{side}_lean_true"] is None or err is None:
             continue
-        # Issue target, met: within 1.0 deg. Measured today: <= 0.99 deg over all 15 clips (the
-        # held-out slow walk; 0.81 on the 13 the methods were developed on), median 0.25; without
-        # the mirror-image pass of the pose model (first 11 clips) 1.28 and 0.48.
+        # Issue target: within 1.0 deg. Measured today: <= 0.99 deg on 16 of 17 clips (the
+        # held-out slow walk; 0.81 on the 13 the methods were developed on), median 0.25; 1.58 on
+        # the held-out side-light clip (xfail above); without the mirror-image pass of the pose
+        # model (first 11 clips) 1.28 and 0.48.
         assert abs(err) <= 1.0, (side, err)
     if r["phase_lean_err_max"] is not None:
-        # Each matched phase's mean lean within 2.0 deg (issue target; measured <= 1.48).
+        # Each matched phase's mean lean within 2.0 deg (issue target; measured <= 1.92, side light).
         assert r["phase_lean_err_max"] <= 2.0
 
 
-@pytest.mark.parametrize("name", CLIPS)
+@pytest.mark.parametrize("name", clips(FAR_DIM))
 def test_phases_found(name):
     r = row(name)
     # Issue target, met: every steady single-support phase found, none
-    # spurious (118 of 118 on 15 clips; 78 of 88 on the first 11 before double support was enforced and the pose
+    # spurious (118 of 118 on the first 15 clips, 132 of 134 with the held-out far, dim clip; 78 of 88 on the first 11 before double support was enforced and the pose
     # model's mirror-image pass added). A found phase is spurious when it
     # overlaps no true window by half its length.
     assert r["phases_matched"] == r["phases_true"]
     assert r["phases_spurious"] == 0
 
 
-@pytest.mark.parametrize("name", CLIPS)
+@pytest.mark.parametrize("name", clips(SIDE_LIGHT))
 def test_per_frame_lean_bias(name):
     # Mean per-frame trunk lean minus truth over the whole clip (the truth's
     # image-plane lean, so camera roll and walking direction are included).
-    # Measured: -0.45 to +0.56 deg on 15 clips (first 11: -0.43 to +0.69 without the mirror-image
+    # Measured: -0.45 to +0.56 deg on 16 clips, +1.36 in side light (first 11: -0.43 to +0.69 without the mirror-image
     # pass of the pose model); a plain pipeline was biased by up to +1.3.
     assert abs(row(name)["lean_frame_bias_deg"]) <= 0.8
 
@@ -100,7 +117,7 @@ def test_event_timing_away():
 def test_foot_off_timing_toward(name):
     r = row(name)
     # Foot off, walking toward: measured median 6-31 ms (target 33 ms met);
-    # single outliers up to 106 ms remain (target: none beyond 100 ms).
+    # single outliers up to 110 ms remain (target: none beyond 100 ms).
     assert r["foot_off_median_ms"] <= 33
 
 
@@ -130,7 +147,7 @@ def test_single_support_time_per_side(name):
     r = row(name)
     # Mean single-support time per side minus truth. Measured: +0.02..+0.14 s
     # walking toward the camera (late foot strikes), -0.10/+0.02 s walking
-    # away; the left/right symmetry index read up to 11 % walking toward (21 %
+    # away; the left/right symmetry index read up to 13 % walking toward (21 %
     # before both feet shared one footprint tolerance, gait.shared_noise) and
     # 27 % walking away (51 % before the walking-away strike search reached
     # past the other foot's early foot off) on walks whose sides are equal.
@@ -142,14 +159,15 @@ def test_single_support_time_per_side(name):
     assert abs(r["ss_symmetry_index_err_pct"]) <= bound
 
 
+@pytest.mark.xfail(strict=True, reason="target not met on the held-out side-light clip: 1.58 deg (0.99 on the other 16)")
 def test_target_per_side_lean_within_one_degree():
-    # Met since both feet share one footprint tolerance walking toward (1.03 deg before, on the held-out slow walk).
+    # Met on the first 15 clips since both feet share one footprint tolerance walking toward.
     errs = [abs(row(n)[f"{s}_lean_err"]) for n in CLIPS for s in ("left", "right")
             if row(n)[f"{s}_lean_err"] is not None and row(n)[f"{s}_lean_true"] is not None]
     assert max(errs) <= 1.0
 
 
-@pytest.mark.xfail(strict=True, reason="target not met yet: pose-model foot strike 34-94 ms late per clip walking toward")
+@pytest.mark.xfail(strict=True, reason="target not met yet: pose-model foot strike 34-95 ms late per clip walking toward")
 def test_target_event_timing_one_frame():
     for n in CLIPS:
         r = row(n)

@@ -98,6 +98,21 @@ def default_manifest() -> dict:
                                              start_distance_m=8.0, shirt_rgb=(0.75, 0.55, 0.2)),
          CameraParams(height_m=0.8, pitch_deg=-1.0), RoomParams(light_azimuth_deg=-30, light_elevation_deg=50), {},
          "fast walk, camera 0.8 m high, walking line 0.25 m to the other side"),
+        # Added at the end of the same session, after the footprint-tolerance
+        # change, and measured once as rendered: a strong lean at 24 fps in
+        # side light, and a tall, narrow client in a dim room with the camera
+        # rolled the other way.
+        ("truth_strong_lean_24fps", WalkParams(seed=22, speed_m_s=0.7, cadence_steps_min=92, height_m=1.60,
+                                               width_scale=1.15, lean_right_stance_deg=12, lean_left_stance_deg=3,
+                                               pelvic_drop_right_stance_deg=5, start_distance_m=7.0,
+                                               shirt_rgb=(0.2, 0.2, 0.22), trousers_rgb=(0.35, 0.3, 0.25)),
+         CameraParams(height_m=1.4, pitch_deg=-8.0), RoomParams(light_azimuth_deg=90, light_elevation_deg=35),
+         {"fps": 24}, "lean 12 deg over the right leg, 24 fps, light from the side"),
+        ("truth_tall_dim_roll", WalkParams(seed=23, speed_m_s=1.1, height_m=1.95, width_scale=0.9,
+                                           lean_left_stance_deg=6, pelvic_drop_left_stance_deg=3,
+                                           start_distance_m=9.0, end_distance_m=3.0, shirt_rgb=(0.6, 0.62, 0.6)),
+         CameraParams(height_m=1.1, roll_deg=-2.0), RoomParams(light_intensity=1.6, ambient=0.2), {},
+         "tall narrow client, dim room, camera rolled 2 deg anticlockwise"),
     ]
     for name, walk, cam, room, video, desc in truth:
         clips.append(_entry(name, walk, cam, room, video, kind="truth", description=desc))
