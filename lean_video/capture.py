@@ -325,7 +325,7 @@ def direction_check(keypoints: pd.DataFrame, direction: str | None, passes: list
     """
     from scipy.stats import spearmanr
 
-    from lean_video.gait_passes import find_passes
+    from lean_video.gait_passes import describe_passes, find_passes
 
     y = _wide(keypoints, "y_px")
     t = keypoints.groupby("frame")["time_s"].first().reindex(y.index).to_numpy()
@@ -338,9 +338,8 @@ def direction_check(keypoints: pd.DataFrame, direction: str | None, passes: list
         passes = [{"start_s": p.start_s, "end_s": p.end_s, "direction": p.direction}
                   for p in find_passes(size[ok], t[ok])]
     if len(passes) > 1:
-        listed = ", ".join(f"{p['direction']} {p['start_s']:.1f}-{p['end_s']:.1f} s" for p in passes)
         return _check("direction", "pass", len(passes),
-                      f"{len(passes)} passes ({listed}), each analysed with its own walking direction",
+                      f"{len(passes)} passes ({describe_passes(passes)}), each analysed with its own walking direction",
                       "")
     rho = float(spearmanr(t[ok], size[ok]).statistic)
     agree = abs(rho)

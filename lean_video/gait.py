@@ -37,7 +37,7 @@ from lean_video.errors import LeanVideoError
 from lean_video.gait_clean import clean_track, keypoints_to_track
 from lean_video.gait_events import (
     assign_client_sides, body_height_px, detect_contacts, foot_speeds,
-    refine_event_times, smooth_body_height, walking_direction,
+    refine_event_times, rest_noise, smooth_body_height, walking_direction,
 )
 from lean_video.gait_frontal import drop_short_contacts, foot_centre_events, order_events
 
@@ -279,7 +279,7 @@ def analyse_keypoints(
     shared_noise : bool, keyword-only
         Walking toward the camera, time both feet's footprint arrivals and
         departures with one at-rest noise level (the mean of the two feet's
-        estimates, :func:`lean_video.gait_events.refine_event_times`) rather
+        estimates, :func:`lean_video.gait_events.rest_noise`) rather
         than each foot's own. Both feet are seen by the same camera and model,
         but a foot whose image drifts slowly while it rolls over reads a
         larger "noise", hence a wider footprint tolerance, and its strikes are
@@ -374,17 +374,16 @@ def analyse_keypoints(
         _, intervals[side] = detect_contacts(
             speeds, time_s, on_fraction=contact_on_fraction, off_fraction=contact_off_fraction)
     if footprint_tolerance > 0:
-        noise, jitter = ({side: refine_event_times(ev_track, time_s, side, scale, intervals[side],
-                                                   floor_fraction=footprint_tolerance, detrend_noise=d)[1]
-                          for side in SIDES} for d in (False, True))
-        # Walking toward the camera the footprint arrival is the foot strike
-        # itself (nothing re-times it), so one at-rest noise level for both
-        # feet keeps the two sides' strikes comparable, unless one foot is
-        # truly noisier (see shared_noise).
-        share = shared_noise and direction == "toward" and \
-            max(jitter.values()) <= max_jitter_ratio * max(min(jitter.values()), 1e-9)
+        sigma = None  # each foot its own at-rest noise level
+        if shared_noise and direction == "toward":
+            # Walking toward the camera the footprint arrival is the foot
+            # strike itself (nothing re-times it), so one noise level for both
+            # feet keeps the two sides' strikes comparable, unless one foot is
+            # truly noisier (see shared_noise).
+            spread, jitter = zip(*(rest_noise(ev_track, time_s, side, scale, intervals[side]) for side in SIDES))
+            if max(jitter) <= max_jitter_ratio * max(min(jitter), 1e-9):
+                sigma = float(np.mean(spread))
         for side in SIDES:
-            sigma = float(np.mean(list(noise.values()))) if share else noise[side]
             intervals[side], _ = refine_event_times(
                 ev_track, time_s, side, scale, intervals[side], floor_fraction=footprint_tolerance,
                 sigma_rel=sigma)

@@ -316,10 +316,64 @@ def _extrapolate_edge(time_s, d, i, step, t_cross, level):
     return float(np.clip(t_level, t_cross - dt, t_cross) if step > 0 else np.clip(t_level, t_cross, t_cross + dt))
 
 
+def _rest_points(track, side, intervals):
+    """Per contact interval and foot point: (interval index, name, seen, p, step, still).
+
+    ``seen`` are the frames with the point tracked, ``p`` its positions there,
+    ``step`` the frame-to-frame moves and ``still`` the third of the samples
+    with the smallest moves (the point at rest).
+    """
+    names = [PAIRS[p][0 if side == "left" else 1] for p in FOOT_POINTS]
+    for k_iv, (t_s, t_o, i0, i1, s_seen, o_seen) in enumerate(intervals):
+        for name in names:
+            seen = i0 + np.flatnonzero(np.all(np.isfinite(track[name][i0:i1]), axis=1))
+            if len(seen) < 4:
+                continue
+            p = track[name][seen]
+            step = np.linalg.norm(np.diff(p, axis=0), axis=1)
+            still = np.sort(np.argsort(step)[: max(2, len(step) // 3)])
+            yield k_iv, name, seen, p, step, still
+
+
+def _robust_sd(residuals: list) -> float:
+    """1.4826 x median of the pooled distances (MAD-scaled; Hampel 1974, from memory), 0 if none."""
+    return float(1.4826 * np.median(np.concatenate(residuals))) if residuals else 0.0
+
+
+def rest_noise(
+    track: dict[str, np.ndarray], time_s: np.ndarray, side: str, scale_px: np.ndarray, intervals: list,
+) -> tuple[float, float]:
+    """At-rest spread of one foot's points, in body heights: about their median, and about a line in time.
+
+    The first is the noise level :func:`refine_event_times` sets its
+    footprint tolerance from; it includes the slow drift of a point while the
+    foot rolls over. The second is taken about a straight line fitted in time
+    to the same at-rest samples, so the drift is removed and only the
+    frame-to-frame jitter is left: comparing it between the feet tells a truly
+    noisier foot from one that drifts (see :mod:`lean_video.gait`).
+
+    Returns
+    -------
+    spread, jitter : float
+    """
+    about_median, about_line = [], []
+    for _, _, seen, p, _, still in _rest_points(track, side, intervals):
+        scale = scale_px[seen[still]]
+        about_median.append(np.linalg.norm(p[still] - np.median(p[still], axis=0), axis=1) / scale)
+        if len(still) >= 4:
+            ts = time_s[seen[still]]
+            design = np.c_[np.ones_like(ts), ts - ts.mean()]
+            coef, *_ = np.linalg.lstsq(design, p[still], rcond=None)
+            about_line.append(np.linalg.norm(p[still] - design @ coef, axis=1) / scale)
+        else:
+            about_line.append(about_median[-1])
+    return _robust_sd(about_median), _robust_sd(about_line)
+
+
 def refine_event_times(
     track: dict[str, np.ndarray], time_s: np.ndarray, side: str, scale_px: np.ndarray,
     intervals: list, *, noise_k: float = 3.0, floor_fraction: float = 0.01,
-    extrapolate_to: float | None = 0.0, sigma_rel: float | None = None, detrend_noise: bool = False,
+    extrapolate_to: float | None = 0.0, sigma_rel: float | None = None,
 ) -> tuple[list, float]:
     """Time foot strike and foot off by when foot points reach and leave their footprint.
 
@@ -342,10 +396,8 @@ def refine_event_times(
     no source).
 
     ``sigma_rel`` (body heights), when given, replaces the estimated at-rest
-    noise, e.g. one level shared by both feet (see :mod:`lean_video.gait`).
-    With ``detrend_noise`` the at-rest spread is taken about a straight line
-    in time instead of the median position: the jitter of the point without
-    its slow drift while the foot rolls over (used to tell the two apart).
+    noise, e.g. one level shared by both feet (see :mod:`lean_video.gait`
+    and :func:`rest_noise`).
 
     Returns
     -------
@@ -355,37 +407,20 @@ def refine_event_times(
         Estimated at-rest noise of this foot, in body heights (the estimate,
         not an override).
     """
-    names = [PAIRS[p][0 if side == "left" else 1] for p in FOOT_POINTS]
     rel_res = []
-    prints = []
-    for t_s, t_o, i0, i1, s_seen, o_seen in intervals:
-        per_point = {}
-        for name in names:
-            seen = i0 + np.flatnonzero(np.all(np.isfinite(track[name][i0:i1]), axis=1))
-            if len(seen) < 4:
-                continue
-            p = track[name][seen]
-            step = np.linalg.norm(np.diff(p, axis=0), axis=1)
-            still = np.sort(np.argsort(step)[: max(2, len(step) // 3)])
-            # separate footprints for arrival and departure: marker-like points
-            # drift slowly while the foot rolls over, which is not a foot off
-            half = len(step) // 2
-            k = max(2, len(step) // 6)
-            early = np.sort(np.argsort(step[:half])[:k]) if half >= 2 else still[:1]
-            late = half + np.sort(np.argsort(step[half:])[:k]) if len(step) - half >= 2 else still[-1:]
-            feet = (np.median(p[early], axis=0), np.median(p[late], axis=0))
-            per_point[name] = (feet, int(seen[early[-1]]), int(seen[late[0]]))
-            if detrend_noise and len(still) >= 4:
-                # residuals about a straight line in time: jitter without the slow drift
-                ts = time_s[seen[still]]
-                design = np.c_[np.ones_like(ts), ts - ts.mean()]
-                coef, *_ = np.linalg.lstsq(design, p[still], rcond=None)
-                res = p[still] - design @ coef
-            else:
-                res = p[still] - np.median(p[still], axis=0)
-            rel_res.append(np.linalg.norm(res, axis=1) / scale_px[seen[still]])
-        prints.append(per_point)
-    sigma = float(1.4826 * np.median(np.concatenate(rel_res))) if rel_res else 0.0
+    prints = [{} for _ in intervals]
+    for k_iv, name, seen, p, step, still in _rest_points(track, side, intervals):
+        # separate footprints for arrival and departure: marker-like points
+        # drift slowly while the foot rolls over, which is not a foot off
+        half = len(step) // 2
+        k = max(2, len(step) // 6)
+        early = np.sort(np.argsort(step[:half])[:k]) if half >= 2 else still[:1]
+        late = half + np.sort(np.argsort(step[half:])[:k]) if len(step) - half >= 2 else still[-1:]
+        feet = (np.median(p[early], axis=0), np.median(p[late], axis=0))
+        prints[k_iv][name] = (feet, int(seen[early[-1]]), int(seen[late[0]]))
+        rel_res.append(np.linalg.norm(p[still] - np.median(p[still], axis=0), axis=1)
+                       / scale_px[seen[still]])
+    sigma = _robust_sd(rel_res)
     if sigma_rel is not None and not (np.isfinite(sigma_rel) and sigma_rel >= 0):
         raise LeanVideoError(f"sigma_rel must be a non-negative number of body heights, got {sigma_rel!r}; "
                              "pass the at-rest noise this function returns, or None.")

@@ -120,6 +120,11 @@ def find_passes(
     return real
 
 
+def describe_passes(passes: list[dict]) -> str:
+    """One line listing passes, e.g. ``away 0.0-4.5 s, toward 7.5-12.2 s``."""
+    return ", ".join(f"{p['direction']} {p['start_s']:.1f}-{p['end_s']:.1f} s" for p in passes)
+
+
 def _merge_quality(results: list[GaitResult], n_frames: int, warnings: list[str]) -> dict:
     q = {"n_frames": int(n_frames),
          "n_valid_frames": int(sum(r.summary["quality"]["n_valid_frames"] for r in results))}
@@ -185,9 +190,8 @@ def analyse_walk(keypoints: pd.DataFrame, *, width: int, height: int, **options)
         raise LeanVideoError(
             "no single-support phase was found in any pass of the walk; film again with the whole body "
             "in view, walking straight toward the camera for at least six steps.")
-    warnings.insert(0, f"the clip holds {len(passes)} passes ("
-                    + ", ".join(f"{e['direction']} {e['start_s']:.1f}-{e['end_s']:.1f} s" for e in listed)
-                    + "); each was analysed with its own walking direction and the turns between them were left out")
+    warnings.insert(0, f"the clip holds {len(passes)} passes ({describe_passes(listed)}); each was analysed "
+                    "with its own walking direction and the turns between them were left out")
 
     all_frames = pd.DataFrame({"frame": frame, "time_s": time_s})
     parts = pd.concat([r.frames for r in results], ignore_index=True).drop_duplicates("frame", keep="first")

@@ -395,6 +395,8 @@ def client_side_labels(points: dict, *, direction: str) -> dict:
     opposite, every left/right name is exchanged, so the picture colours the
     legs of the stance side the table names.
     """
+    from lean_video.pose_model import mirror_name
+
     if direction not in ("toward", "away"):
         raise LeanVideoError(f"direction must be 'toward' or 'away', got {direction!r}; use the summary's.")
     dx = [points[f"left_{part}"][0] - points[f"right_{part}"][0] for part in ("hip", "shoulder")
@@ -402,12 +404,4 @@ def client_side_labels(points: dict, *, direction: str) -> dict:
     want = 1.0 if direction == "toward" else -1.0
     if not dx or np.sign(sum(dx)) * want >= 0:
         return dict(points)
-
-    def other(name: str) -> str:
-        if name.startswith("left_"):
-            return "right_" + name[5:]
-        if name.startswith("right_"):
-            return "left_" + name[6:]
-        return name
-
-    return {other(name): xy for name, xy in points.items()}
+    return {mirror_name(name): xy for name, xy in points.items()}

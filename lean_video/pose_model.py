@@ -161,7 +161,8 @@ def _landmarks_array(result, *, x0: float, y0: float, sx: float, sy: float) -> n
     return raw
 
 
-def _mirror_name(name: str) -> str:
+def mirror_name(name: str) -> str:
+    """The landmark name with left and right exchanged (``left_hip`` -> ``right_hip``, ``nose`` -> ``nose``)."""
     for a, b in (("left", "right"), ("right", "left")):
         if a in name:
             return name.replace(a, b)
@@ -169,7 +170,7 @@ def _mirror_name(name: str) -> str:
 
 
 #: Index of each landmark's mirror partner (left_hip <-> right_hip, nose -> nose).
-MIRROR_INDEX = np.array([LANDMARK_NAMES.index(_mirror_name(n)) for n in LANDMARK_NAMES])
+MIRROR_INDEX = np.array([LANDMARK_NAMES.index(mirror_name(n)) for n in LANDMARK_NAMES])
 
 
 def merge_mirrored(plain: np.ndarray, mirrored: np.ndarray | None, *, tolerance_px: float) -> np.ndarray:

@@ -7,10 +7,12 @@ import json
 
 import cv2
 import numpy as np
+import pandas as pd
 import pytest
 
 from lean_video import capture, pipeline
 from lean_video.errors import LeanVideoError
+from lean_video.pose import COLUMNS
 from lean_video.video import iter_frames, probe_clip
 from tests.conftest import DEMO, demo_clip, ffmpeg
 
@@ -138,9 +140,7 @@ def _size_track(distance_m, fps=30.0):
     size = 1000.0 * 1.7 / np.asarray(distance_m, float)
     rows = [(i, ti, name, 360.0, y, 0.0, 0.99, 0.99)
             for i, (ti, s) in enumerate(zip(t, size)) for name, y in (("nose", 640 - s / 2), ("left_heel", 640 + s / 2))]
-    import pandas as pd
-
-    return pd.DataFrame(rows, columns=["frame", "time_s", "landmark", "x_px", "y_px", "z", "visibility", "presence"])
+    return pd.DataFrame(rows, columns=list(COLUMNS))
 
 
 def test_direction_check_straight_walk_and_wording():

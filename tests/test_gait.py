@@ -17,7 +17,7 @@ from lean_video.gait import analyse_keypoints, frame_angles
 from lean_video.gait_clean import (
     butter_sos, fill_short_gaps, keypoints_to_track, lowpass_irregular, repair_swaps,
 )
-from lean_video.gait_events import refine_event_times, walking_direction
+from lean_video.gait_events import refine_event_times, rest_noise, walking_direction
 from lean_video.gait_frontal import drop_short_contacts, foot_centre_events, order_events
 
 try:
@@ -533,8 +533,7 @@ def test_refine_noise_override_and_detrended_noise():
     scale = np.full(len(t), 1000.0)
     iv = [(0.5, 1.5, 15, 45, True, True)]
     drifting = _resting_foot(t, drift_px=8.0)
-    _, sigma = refine_event_times(drifting, t, "left", scale, iv)
-    _, jitter = refine_event_times(drifting, t, "left", scale, iv, detrend_noise=True)
+    sigma, jitter = rest_noise(drifting, t, "left", scale, iv)
     # A straight slide at rest is drift, not jitter: about a line in time it leaves nothing.
     assert sigma > 1e-3 and jitter < 1e-6
     # A wider tolerance (larger noise level) declares the arrival earlier, never later.
