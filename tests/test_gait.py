@@ -469,6 +469,19 @@ def test_strike_after_other_foot_off_is_resolved_by_the_event_the_view_hides():
     assert n == 1 and r3[0][1] == 1.15 and l3 == left and r3[1] == right[1]
 
 
+def test_strike_anywhere_in_the_other_foots_swing_belongs_to_that_step():
+    # Left found landing 0.3 s after the right foot left, but before the right
+    # foot lands again: one foot must be on the floor (walking has no flight
+    # phase), so it is the same step however large the contradiction.
+    left = [(0.2, 0.9, 6, 27, True, True), (1.40, 2.1, 42, 63, True, True)]
+    right = [(0.65, 1.10, 19, 33, True, True), (1.75, 2.4, 52, 72, True, True)]
+    l2, r2, n = order_events(left, right, direction="toward")
+    assert n == 1 and l2[1][0] == 1.10 and r2 == right
+    # found after the right foot's next strike: a step is missing, leave it alone
+    late = [(0.2, 0.9, 6, 27, True, True), (1.80, 2.5, 54, 75, True, True)]
+    assert order_events(late, right, direction="toward") == (late, right, 0)
+
+
 def test_consistent_or_distant_events_are_left_alone():
     left = [(0.2, 0.9, 6, 27, True, True), (1.15, 1.9, 34, 57, True, True)]
     right = [(0.65, 1.25, 19, 37, True, True)]          # proper double support 1.15-1.25
