@@ -286,19 +286,24 @@ def render_session_report(
         pics[side] = {"uri": annotate_peak_frame(p["rgb"], p["keypoints"], stance_side=side, lean_deg=lean,
                                                  camera_roll_deg=roll, blur_faces=blur_faces),
                       "lean": lean, "time_s": p.get("time_s")}
-    plots = [("plot-lean", figures.lean_timeseries(frames, strides, events)),
-             ("plot-obliquity", figures.obliquity_timeseries(frames, strides)),
-             ("plot-phases", figures.phase_lean(strides, summary["sides"]))]
+    # Numbers from a method that failed validation (wrong sign on the test
+    # walkers) are not shown to client or clinician; the CSV and JSON keep them.
+    pelvis_shown = (summary.get("pelvic_obliquity_method") or {}).get("validated") is not False
+    plots = [("plot-lean", figures.lean_timeseries(frames, strides, events))]
+    if pelvis_shown:
+        plots.append(("plot-obliquity", figures.obliquity_timeseries(frames, strides)))
+    plots.append(("plot-phases", figures.phase_lean(strides, summary["sides"])))
     if hip_curve:
         plots.append(("plot-hipforce", figures.hip_force_curve(hip_curve, strides)))
-    phase_cols = [(c, lbl) for c, lbl in _PHASE_LABELS if c in strides]
+    phase_cols = [(c, lbl) for c, lbl in _PHASE_LABELS
+                  if c in strides and (pelvis_shown or not c.startswith("pelvic_"))]
     quality = summary.get("quality") or {}
     ctx = {
         "title": "Walking assessment: trunk lean and hip load",
         "csp": CSP, "plotly_js": Markup(plotly.offline.get_plotlyjs()),
         "client": _client_view(client), "date_filmed": date_filmed, "clip_name": clip_name,
         "clinic_name": clinic_name, "generated": generated_utc or _now(), "summary": summary,
-        "sides": sides, "pictures": pics, "blur_faces": blur_faces,
+        "sides": sides, "pictures": pics, "blur_faces": blur_faces, "pelvis_shown": pelvis_shown,
         "plots": [(pid, _plot_div(fig, pid)) for pid, fig in plots],
         "checks": quality.get("checks", []), "warnings": quality.get("warnings", []),
         "quality_rows": [(k, v) for k, v in _flatten({k: v for k, v in quality.items()

@@ -278,6 +278,27 @@ def test_plotly_inlined_once_and_every_plot_present(session_html):
     assert '"name":"left foot strike"' in html and '"name":"right foot strike"' in html
 
 
+def test_unvalidated_pelvic_drop_is_withheld_from_the_report():
+    # A method that failed validation (pipeline.PELVIS_METHOD: wrong sign on the
+    # rendered walkers) must not put numbers in front of client or clinician.
+    strides = make_strides()
+    summary = make_summary(strides)
+    summary["pelvic_obliquity_method"] = {"validated": False, "note": "Moved the wrong way on test walkers."}
+    html = render_session_report(summary, make_frames(strides), strides, events=make_events(strides))
+    tables = parse(html).tables
+    assert "Pelvic drop (°)" not in tables["side-table"][0]
+    assert not any("Pelvic" in h for h in tables["phase-table"][0])
+    assert 'id="plot-obliquity"' not in html
+    assert "not shown, because its method failed validation" in html
+    assert "Moved the wrong way on test walkers." in html
+    # ... and shown, with its note, when the method is validated
+    summary["pelvic_obliquity_method"] = {"validated": True, "note": "Checked on test walkers."}
+    html = render_session_report(summary, make_frames(strides), strides, events=make_events(strides))
+    tables = parse(html).tables
+    assert "Pelvic drop (°)" in tables["side-table"][0] and 'id="plot-obliquity"' in html
+    assert "failed validation" not in html
+
+
 def test_session_numbers_match_summary(session_html):
     html, summary = session_html
     tables = parse(html).tables
