@@ -29,6 +29,12 @@ _ROWS: dict[str, dict] = {}
 SIDE_LIGHT = ("truth_strong_lean_24fps", "light from the side: per-frame lean biased +1.36 deg toward the "
               "client's right (the mirror-image pass cannot cancel a bias that mirrors with the scene); "
               "left lean 1.58 deg under")
+# The same walker in two more lights, added the next session after a sweep of
+# five light directions showed the error is not the side light's alone.
+FRONT_LIGHT = ("truth_strong_lean_front_light", "large lean (12 deg peak) read 1.13 deg low in light from the "
+               "camera side: found phases run on into double support (late foot strikes)")
+OTHER_LIGHT = ("truth_strong_lean_other_light", "large lean read 2.24 deg low (one phase 2.72) in light from the "
+               "other side: per-frame bias -0.66 deg adds to the late-strike under-reading")
 
 
 def clips(*known: tuple[str, str]) -> list:
@@ -50,7 +56,7 @@ def row(name: str) -> dict:
     return _ROWS[name]
 
 
-@pytest.mark.parametrize("name", clips(SIDE_LIGHT))
+@pytest.mark.parametrize("name", clips(SIDE_LIGHT, FRONT_LIGHT, OTHER_LIGHT))
 def test_direction_roll_and_lean(name):
     r = row(name)
     assert r["direction"] == r["direction_true"]
@@ -60,13 +66,14 @@ def test_direction_roll_and_lean(name):
         err = r[f"{side}_lean_err"]
         if r[f"{side}_lean_true"] is None or err is None:
             continue
-        # Issue target: within 1.0 deg. Measured today: <= 0.99 deg on 16 of 17 clips (the
-        # held-out slow walk; 0.81 on the 13 the methods were developed on), median 0.30; 1.58 on
-        # the held-out side-light clip (xfail above); without the mirror-image pass of the pose
-        # model (first 11 clips) 1.28 and 0.48.
+        # Issue target: within 1.0 deg. Measured today: <= 0.99 deg on 16 of 19 clips (the
+        # held-out slow walk; 0.81 on the 13 the methods were developed on), median 0.34; 1.58,
+        # 1.13 and 2.24 on the strong-lean walker in three lights (xfails above); without the
+        # mirror-image pass of the pose model (first 11 clips) 1.28 and 0.48.
         assert abs(err) <= 1.0, (side, err)
     if r["phase_lean_err_max"] is not None:
-        # Each matched phase's mean lean within 2.0 deg (issue target; measured <= 1.92, side light).
+        # Each matched phase's mean lean within 2.0 deg (issue target; measured <= 1.92 on 18
+        # clips, 2.72 on the strong-lean walker lit from the other side).
         assert r["phase_lean_err_max"] <= 2.0
 
 
@@ -74,7 +81,7 @@ def test_direction_roll_and_lean(name):
 def test_phases_found(name):
     r = row(name)
     # Issue target, met: every steady single-support phase found, none
-    # spurious: 134 of 134 on 17 clips (78 of 88 on the first 11 before double
+    # spurious: 152 of 152 on 19 clips (78 of 88 on the first 11 before double
     # support was enforced and the pose model's mirror-image pass added; 132 of
     # 134 while a strike found 0.202 s past the other foot's foot off on the
     # far, dim clip was beyond a fixed 0.2 s bound, now the other foot's swing).
@@ -87,7 +94,7 @@ def test_phases_found(name):
 def test_per_frame_lean_bias(name):
     # Mean per-frame trunk lean minus truth over the whole clip (the truth's
     # image-plane lean, so camera roll and walking direction are included).
-    # Measured: -0.45 to +0.56 deg on 16 clips, +1.36 in side light (first 11: -0.43 to +0.69 without the mirror-image
+    # Measured: -0.66 to +0.56 deg on 18 clips, +1.36 in side light (first 11: -0.43 to +0.69 without the mirror-image
     # pass of the pose model); a plain pipeline was biased by up to +1.3.
     assert abs(row(name)["lean_frame_bias_deg"]) <= 0.8
 
@@ -164,14 +171,15 @@ def test_single_support_time_per_side(name):
     assert abs(r["ss_symmetry_index_err_pct"]) <= bound
 
 
-@pytest.mark.xfail(strict=True, reason="target not met on the held-out side-light clip: 1.58 deg (0.99 on the other 16)")
+@pytest.mark.xfail(strict=True, reason="target not met on the strong-lean walker: 1.13-2.24 deg in three lights "
+                                       "(0.99 on the other 16 clips)")
 def test_target_per_side_lean_within_one_degree():
     # Met on the first 15 clips since both feet share one footprint tolerance walking toward.
     errs = per_side_lean_errors()
     assert max(errs) <= 1.0
 
 
-@pytest.mark.xfail(strict=True, reason="target not met yet: pose-model foot strike 34-95 ms late per clip walking toward")
+@pytest.mark.xfail(strict=True, reason="target not met yet: pose-model foot strike 34-109 ms late per clip walking toward")
 def test_target_event_timing_one_frame():
     for n in CLIPS:
         r = row(n)

@@ -113,6 +113,24 @@ def default_manifest() -> dict:
                                            start_distance_m=9.0, end_distance_m=3.0, shirt_rgb=(0.6, 0.62, 0.6)),
          CameraParams(height_m=1.1, roll_deg=-2.0), RoomParams(light_intensity=1.6, ambient=0.2), {},
          "tall narrow client, dim room, camera rolled 2 deg anticlockwise"),
+        # Added in the next session to see whether the side-light clip's error
+        # comes from the light: the same walker and camera lit from the front and
+        # from the other side (a sweep of five light directions was measured;
+        # these two are kept), measured once as rendered.
+        ("truth_strong_lean_front_light", WalkParams(seed=22, speed_m_s=0.7, cadence_steps_min=92, height_m=1.60,
+                                                     width_scale=1.15, lean_right_stance_deg=12,
+                                                     lean_left_stance_deg=3, pelvic_drop_right_stance_deg=5,
+                                                     start_distance_m=7.0, shirt_rgb=(0.2, 0.2, 0.22),
+                                                     trousers_rgb=(0.35, 0.3, 0.25)),
+         CameraParams(height_m=1.4, pitch_deg=-8.0), RoomParams(light_azimuth_deg=0, light_elevation_deg=35),
+         {"fps": 24}, "the strong-lean walker lit from the camera side"),
+        ("truth_strong_lean_other_light", WalkParams(seed=22, speed_m_s=0.7, cadence_steps_min=92, height_m=1.60,
+                                                     width_scale=1.15, lean_right_stance_deg=12,
+                                                     lean_left_stance_deg=3, pelvic_drop_right_stance_deg=5,
+                                                     start_distance_m=7.0, shirt_rgb=(0.2, 0.2, 0.22),
+                                                     trousers_rgb=(0.35, 0.3, 0.25)),
+         CameraParams(height_m=1.4, pitch_deg=-8.0), RoomParams(light_azimuth_deg=-90, light_elevation_deg=35),
+         {"fps": 24}, "the strong-lean walker lit from the other side"),
     ]
     for name, walk, cam, room, video, desc in truth:
         clips.append(_entry(name, walk, cam, room, video, kind="truth", description=desc))
