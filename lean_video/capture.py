@@ -305,9 +305,14 @@ def capture_checks(keypoints: pd.DataFrame, clip: dict, summary: dict, *,
     checks = keypoint_checks(keypoints, clip)
     sides = summary.get("sides", {})
     n_min = min(int((sides.get(s) or {}).get("n_phases") or 0) for s in ("left", "right"))
-    checks.append(_check("phases_per_side", _grade(n_min, PHASE_LIMITS), n_min,
-                         f"fewest single-support phases on one side: {n_min}",
-                         "film a longer walk, or two or three passes, to get at least three steps on each side"))
+    dropped = (summary.get("quality") or {}).get("dropped_phases") or []
+    unclear = sum(1 for d in dropped if not str(d.get("reason", "")).startswith("partial phase"))
+    detail = f"fewest single-support phases on one side: {n_min}"
+    suggestion = "film a longer walk, or two or three passes, to get at least three steps on each side"
+    if unclear:
+        detail += f"; {unclear} phase(s) left out because the feet or body were not tracked clearly"
+        suggestion = "film closer, in even light, at 720p or more; then " + suggestion
+    checks.append(_check("phases_per_side", _grade(n_min, PHASE_LIMITS), n_min, detail, suggestion))
     checks.append(direction_check(keypoints, summary.get("direction"), summary.get("passes")))
     checks.extend(extra)
     return checks

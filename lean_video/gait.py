@@ -195,11 +195,15 @@ def _cadence(events: pd.DataFrame) -> float | None:
     return float(60.0 / np.median(d)) if d.size else None
 
 
-def summarise_sides(strides: pd.DataFrame, events: pd.DataFrame, warnings: list[str]) -> dict:
+def summarise_sides(strides: pd.DataFrame, events: pd.DataFrame, warnings: list[str], *,
+                     dropped: list[dict] | None = None) -> dict:
     """Per-side statistics, cadence and left/right asymmetry of a set of phases.
 
     Appends to ``warnings`` what is missing (fewer than three phases on a
-    side, no cadence, no asymmetry).
+    side, no cadence, no asymmetry). Where a side is short of phases, the
+    advice follows from ``dropped`` (the quality gates' list, each with
+    ``stance_side`` and ``reason``): phases left out for unclear tracking
+    call for a clearer picture, not a longer walk.
 
     Returns
     -------
@@ -211,7 +215,12 @@ def summarise_sides(strides: pd.DataFrame, events: pd.DataFrame, warnings: list[
     for side in SIDES:
         n = sides[side]["n_phases"]
         if n < 3:
-            warnings.append(f"only {n} usable {side} single-support phase(s); means are unreliable and SD/CI need at least 2 (film a longer walk)")
+            unclear = sum(1 for d in dropped or () if d.get("stance_side") == side
+                          and not str(d.get("reason", "")).startswith("partial phase"))
+            advice = (f"{unclear} more left out because the feet or body were not tracked clearly, see the dropped "
+                      "phases; film closer, in even light, at 720p or more" if unclear else "film a longer walk")
+            warnings.append(f"only {n} usable {side} single-support phase(s); means are unreliable and SD/CI need "
+                            f"at least 2 ({advice})")
     cadence = _cadence(events)
     if cadence is None:
         warnings.append("cadence could not be computed: fewer than two consecutive foot strikes")
@@ -438,7 +447,7 @@ def analyse_keypoints(
     summary = {
         "direction": direction,
         "camera_roll_deg": float(camera_roll_deg),
-        **(summarise_sides(strides, events, warnings) if summarise else {}),
+        **(summarise_sides(strides, events, warnings, dropped=drops) if summarise else {}),
         "quality": {
             "n_frames": int(len(frame)),
             "n_valid_frames": int(frames["valid"].sum()),

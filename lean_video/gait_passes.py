@@ -206,7 +206,8 @@ def analyse_walk(keypoints: pd.DataFrame, *, width: int, height: int, **options)
     summary = {
         "direction": "toward" if by_dir["toward"] >= by_dir["away"] else "away",
         "camera_roll_deg": first["camera_roll_deg"],
-        **summarise_sides(strides, events, warnings),
+        **summarise_sides(strides, events, warnings,
+                          dropped=[d for r in results for d in r.summary["quality"]["dropped_phases"]]),
     }
     summary["quality"] = _merge_quality(results, len(frame), warnings)
     summary["settings"] = {**first["settings"], "passes": "split at turns (lean_video.gait_passes.find_passes defaults)"}

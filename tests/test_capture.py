@@ -165,3 +165,26 @@ def test_direction_check_fails_wandering_in_view():
     check = capture.direction_check(_size_track(5 + 0.25 * np.sin(2 * np.pi * 0.4 * t)), None)
     assert check["status"] == "fail"
     assert "turning only at the ends" in check["suggestion"]
+
+
+def test_phase_check_says_when_unclear_tracking_cost_the_phases():
+    # Phases dropped by the quality gates need a clearer picture, not only a longer walk.
+    from lean_video.pose import LANDMARK_NAMES
+
+    size = 1000.0 * 1.7 / np.linspace(7, 3, 120)
+    # every landmark on a vertical line, spread over the body's height (only the table's shape matters here)
+    keypoints = pd.DataFrame(
+        [(i, i / 30.0, name, 360.0 + (5.0 if name.startswith("left") else -5.0), 640 - s / 2 + s * k / len(LANDMARK_NAMES),
+          0.0, 0.99, 0.99) for i, s in enumerate(size) for k, name in enumerate(LANDMARK_NAMES)],
+        columns=list(COLUMNS))
+    clip = {"width": 720, "height": 1280, "fps": 30.0, "duration_s": 4.0}
+    dropped = [{"stance_side": "left", "reason": "stance foot not seen in contact for the whole phase"},
+               {"stance_side": "right", "reason": "partial phase: the swing foot's next foot strike is not seen"}]
+    summary = {"direction": "toward", "sides": {"left": {"n_phases": 1}, "right": {"n_phases": 3}},
+               "quality": {"dropped_phases": dropped}}
+    check = _by_name({"checks": capture.capture_checks(keypoints, clip, summary)})["phases_per_side"]
+    assert check["status"] != "pass" and "1 phase(s) left out because the feet or body were not tracked" in check["detail"]
+    assert check["suggestion"].startswith("film closer, in even light, at 720p or more")
+    summary["quality"]["dropped_phases"] = dropped[1:]   # only the clip's end: a longer walk is the fix
+    check = _by_name({"checks": capture.capture_checks(keypoints, clip, summary)})["phases_per_side"]
+    assert check["suggestion"].startswith("film a longer walk") and "not tracked" not in check["detail"]

@@ -13,7 +13,7 @@ import pytest
 from scipy import signal
 
 from lean_video.errors import LeanVideoError
-from lean_video.gait import analyse_keypoints, frame_angles
+from lean_video.gait import analyse_keypoints, frame_angles, summarise_sides
 from lean_video.gait_clean import (
     butter_sos, fill_short_gaps, keypoints_to_track, lowpass_irregular, repair_swaps,
 )
@@ -577,3 +577,25 @@ def test_one_truly_noisier_foot_keeps_its_own_tolerance():
     forced = analyse_keypoints(kp, width=w.width, height=w.height, max_jitter_ratio=100.0)
     assert abs(forced.summary["asymmetry"]["single_support_symmetry_index_pct"]) > 20
     assert r.summary["settings"]["shared_noise"] is True and r.summary["settings"]["max_jitter_ratio"] == 3.0
+
+
+def test_short_side_advice_follows_why_phases_were_left_out():
+    cols = ["stance_side", "start_s", "end_s", "duration_s", "lean_mean_deg", "lean_peak_deg",
+            "pelvic_drop_mean_deg", "pelvic_drop_peak_deg"]
+    rows = [("left", 1.0, 1.4, 0.4, 3.0, 4.0, 1.0, 2.0)] + \
+        [("right", 0.4 + k, 0.8 + k, 0.4, 2.0, 3.0, 1.0, 2.0) for k in range(4)]
+    strides = pd.DataFrame(rows, columns=cols)
+    events = pd.DataFrame({"time_s": [0.5, 1.1, 1.7], "frame": [15, 33, 51], "side": ["left", "right", "left"],
+                           "event": ["foot_strike"] * 3})
+    unclear = [{"stance_side": "left", "start_s": 2.0, "reason": "stance foot not seen in contact for the whole phase"},
+               {"stance_side": "left", "start_s": 3.0, "reason": "12 % of frames without shoulders/hips"},
+               {"stance_side": "left", "start_s": 0.1, "reason": "partial phase: the swing foot's next foot strike is not seen"}]
+    warnings: list[str] = []
+    summarise_sides(strides, events, warnings, dropped=unclear)
+    left = [w for w in warnings if w.startswith("only 1 usable left")]
+    assert len(left) == 1 and "2 more left out because the feet or body were not tracked clearly" in left[0]
+    assert "film a longer walk" not in left[0] and not any("usable right" in w for w in warnings)
+    # only partial phases (clip ends) were left out: the walk was too short
+    warnings = []
+    summarise_sides(strides, events, warnings, dropped=unclear[2:])
+    assert any(w.startswith("only 1 usable left") and w.endswith("(film a longer walk)") for w in warnings)
