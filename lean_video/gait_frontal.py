@@ -11,7 +11,10 @@ toe (foot-velocity algorithm, O'Connor et al. 2007, Gait & Posture
 point (after Zeni et al. 2008, Gait & Posture 27:710-714); both bounded by the
 other foot's events (double support; Perry & Burnfield 2010). Fully seen
 contacts much shorter than the foot's typical stance (a swing foot pausing in
-the image) are dropped first (:func:`drop_short_contacts`).
+the image) are dropped first (:func:`drop_short_contacts`). Walking toward the
+camera the pose model's foot strike is late whatever the point; it is kept at
+least a minimum double support before the other foot's foot off
+(:func:`bound_late_strikes`).
 
 Conventions as in :mod:`lean_video.gait_events`.
 """
@@ -337,3 +340,75 @@ def order_events(left: list, right: list, *, direction: str, max_gap_s: float = 
                 n_moved += 1
     as_tuples = {side: [tuple(iv) for iv in ivs] for side, ivs in feet.items()}
     return as_tuples["left"], as_tuples["right"], n_moved
+
+
+def bound_late_strikes(left: list, right: list, *, direction: str,
+                       min_double_support_fraction: float = 0.08) -> tuple[list, list, int]:
+    """Walking toward the camera, end each foot strike at least a minimum double support before the other foot's off.
+
+    Double support lasts about a tenth of the gait cycle at each end of single
+    support in normal walking, longer in slow walking, shorter in fast walking
+    (Perry & Burnfield 2010, Gait Analysis, 2nd ed., ch. 1, from memory).
+    Walking toward the camera the heel lands hidden behind the forefoot and the
+    pose model's foot points settle only with the foot flat: on the rendered
+    clips foot strikes came out 34-109 ms late (median per clip) while foot
+    offs were within about 30 ms. Each single-support phase then ran on into
+    double support, and its mean lean read low (over the found phases lean
+    followed the truth with a slope of 0.82-1.04 against 0.97-1.14 over the
+    true windows). So a foot strike is moved to no later than the other foot's
+    foot off less ``min_double_support_fraction`` of the median stride time.
+    0.08 sits below the textbook tenth so that a fast walker, whose double
+    support is shorter, is cut short by little (engineering choice, no
+    source). Where the client's double support is longer, as in slow or
+    painful walking, the bound is looser and the strike stays up to the
+    difference late. Walking away the strike is timed from the heel's turning
+    point, which is not late (see :func:`foot_centre_events`); nothing is
+    changed there.
+
+    Parameters
+    ----------
+    left, right : list
+        Contact intervals of each foot after :func:`order_events`, layout of
+        :func:`lean_video.gait_events.detect_contacts`.
+    direction : {"toward", "away"}, keyword-only
+    min_double_support_fraction : float, keyword-only
+        Shortest double support assumed, as a fraction of the stride time
+        (0 leaves the strikes alone).
+
+    Returns
+    -------
+    left, right : list
+        Same layout.
+    n_moved : int
+        Number of foot strikes moved earlier.
+    """
+    if direction not in ("toward", "away"):
+        raise LeanVideoError(f"direction must be 'toward' or 'away', got {direction!r}; use walking_direction().")
+    if not 0.0 <= min_double_support_fraction < 0.25:
+        raise LeanVideoError(f"min_double_support_fraction must lie in 0..0.25 of the stride, got "
+                             f"{min_double_support_fraction!r}; use 0.08.")
+    if direction == "away" or min_double_support_fraction == 0:
+        return list(left), list(right), 0
+    feet = {"left": [list(iv) for iv in left], "right": [list(iv) for iv in right]}
+    strides = [np.diff(sorted(iv[0] for iv in ivs if iv[4])) for ivs in feet.values()]
+    strides = np.concatenate([d for d in strides if d.size] or [np.empty(0)])
+    # same-foot strike intervals of continuous walking (common practice, no source)
+    strides = strides[(strides > 0.6) & (strides < 2.5)]
+    if not strides.size:
+        return list(left), list(right), 0
+    margin_s = min_double_support_fraction * float(np.median(strides))
+    n_moved = 0
+    for a, b in (("left", "right"), ("right", "left")):
+        for iv in feet[a]:
+            if not iv[4]:
+                continue
+            # the other foot's contact under way when this one landed, with its seen foot off
+            under = [jv for jv in feet[b] if jv[0] < iv[0] <= jv[1] and jv[5]]
+            if not under:
+                continue
+            bound = under[-1][1] - margin_s
+            own_prev_off = max((kv[1] for kv in feet[a] if kv[1] < iv[0]), default=-np.inf)
+            if own_prev_off < bound < iv[0]:
+                iv[0] = bound
+                n_moved += 1
+    return ([tuple(iv) for iv in feet["left"]], [tuple(iv) for iv in feet["right"]], n_moved)

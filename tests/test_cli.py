@@ -103,7 +103,7 @@ def test_analyse_store_history_export_forget(tmp_path):
     # how far each angle was checked travels with the numbers
     assert summary["trunk_lean_method"]["per_side_error_max_deg"] > 0
     assert summary["pelvic_obliquity_method"]["validated"] is False
-    assert 'id="lean-accuracy"' in html and "does not shrink with more steps" in html
+    assert 'id="lean-accuracy"' in html and "do not shrink with more steps" in html
     assert 'id="timing-accuracy"' in html and summary["events_method"]["foot_strike_median_error_ms"]["toward"][1] > 0
     # Same clip again: the session is replaced, not duplicated; mass and height are remembered.
     again = cli("analyse", str(WALKER), "--out", str(out / "a"), "--client", "HP-077", "--date", "2026-09-01",

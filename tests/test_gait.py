@@ -18,7 +18,7 @@ from lean_video.gait_clean import (
     butter_sos, fill_short_gaps, keypoints_to_track, lowpass_irregular, repair_swaps,
 )
 from lean_video.gait_events import refine_event_times, rest_noise, walking_direction
-from lean_video.gait_frontal import drop_short_contacts, foot_centre_events, order_events
+from lean_video.gait_frontal import bound_late_strikes, drop_short_contacts, foot_centre_events, order_events
 
 try:
     from tests.gait_walker import make_walk, match_events
@@ -599,3 +599,34 @@ def test_short_side_advice_follows_why_phases_were_left_out():
     warnings = []
     summarise_sides(strides, events, warnings, dropped=unclear[2:])
     assert any(w.startswith("only 1 usable left") and w.endswith("(film a longer walk)") for w in warnings)
+
+
+# --- late foot strikes walking toward (bound_late_strikes) -------------------
+
+def test_late_strike_is_bounded_by_a_minimum_double_support():
+    # Strides of 1.0 s; the right foot leaves at 1.10 s, the left strike was found
+    # at 1.08 s (late: only 0.02 s of double support). With at least 8 % of the
+    # stride (Perry & Burnfield 2010 give about 10 % per double support, from
+    # memory) the strike can be no later than 1.10 - 0.08 = 1.02 s.
+    left = [(0.08, 0.62, 2, 19, True, True), (1.08, 1.62, 32, 49, True, True)]
+    right = [(0.58, 1.10, 17, 33, True, True), (1.58, 2.10, 47, 63, True, True)]
+    l2, r2, n = bound_late_strikes(left, right, direction="toward")
+    assert n == 3  # the left strike at 1.08 and the right strikes at 0.58 and 1.58
+    assert l2[1][0] == pytest.approx(1.02) and l2[1][1:] == left[1][1:]
+    assert r2[0][0] == pytest.approx(0.62 - 0.08) and r2[1][0] == pytest.approx(1.62 - 0.08)
+    # a strike already early enough, and walking away, are left alone
+    early = [(0.08, 0.62, 2, 19, True, True), (0.98, 1.62, 29, 49, True, True)]
+    assert bound_late_strikes(early, right, direction="toward")[0][1] == early[1]
+    assert bound_late_strikes(left, right, direction="away") == (left, right, 0)
+    assert bound_late_strikes(left, right, direction="toward", min_double_support_fraction=0.0) == (left, right, 0)
+
+
+def test_bound_never_moves_a_strike_before_the_feet_own_last_foot_off():
+    # The other foot's off comes so soon after this foot's own off that the
+    # bound would put the strike before the foot had even left: not moved.
+    left = [(0.0, 0.95, 0, 28, True, True), (1.0, 1.6, 30, 48, True, True)]
+    right = [(0.5, 1.02, 15, 31, True, True), (1.5, 2.0, 45, 60, True, True)]
+    l2, _, _ = bound_late_strikes(left, right, direction="toward")
+    assert l2[1] == left[1]
+    with pytest.raises(LeanVideoError, match="min_double_support_fraction must lie in 0..0.25"):
+        bound_late_strikes(left, right, direction="toward", min_double_support_fraction=0.3)
