@@ -39,7 +39,7 @@ from lean_video.gait_events import (
     assign_client_sides, body_height_px, detect_contacts, foot_speeds,
     refine_event_times, rest_noise, smooth_body_height, walking_direction,
 )
-from lean_video.gait_frontal import bound_late_strikes, drop_short_contacts, foot_centre_events, order_events
+from lean_video.gait_frontal import bound_by_double_support, drop_short_contacts, foot_centre_events, order_events
 
 log = logging.getLogger(__name__)
 
@@ -312,9 +312,11 @@ def analyse_keypoints(
         rendered clips, 4.4-7.5 on that walker; 3 lies between (common
         practice, no source).
     min_double_support_fraction : float, keyword-only
-        Walking toward the camera, no foot strike is kept later than the
-        other foot's foot off less this fraction of the stride time (0: off),
-        see :func:`lean_video.gait_frontal.bound_late_strikes`.
+        Shortest double support, as a fraction of the stride time, kept
+        between the event the view hides and the other foot's (toward: a
+        strike before the other's foot off; away: a foot off after the
+        other's strike; 0: off), see
+        :func:`lean_video.gait_frontal.bound_by_double_support`.
     summarise : bool, keyword-only
         False leaves out ``sides``, ``cadence_steps_per_min`` and
         ``asymmetry`` (and their warnings) and logs nothing: used to analyse
@@ -414,7 +416,7 @@ def analyse_keypoints(
     if event_order:
         intervals["left"], intervals["right"], n_reordered = order_events(
             intervals["left"], intervals["right"], direction=direction)
-    intervals["left"], intervals["right"], n_bounded = bound_late_strikes(
+    intervals["left"], intervals["right"], n_bounded = bound_by_double_support(
         intervals["left"], intervals["right"], direction=direction,
         min_double_support_fraction=min_double_support_fraction)
     for side in SIDES:
@@ -463,7 +465,7 @@ def analyse_keypoints(
             "n_side_relabellings": int(n_relabel),
             "n_short_contacts_dropped": int(n_short),
             "n_events_reordered": int(n_reordered),
-            "n_strikes_bounded_by_double_support": int(n_bounded),
+            "n_events_bounded_by_double_support": int(n_bounded),
             "log_size_slope_per_s": None if not np.isfinite(slope) else float(slope),
             "dropped_phases": drops,
             "n_dropped_phases": len(drops),

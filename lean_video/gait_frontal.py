@@ -14,7 +14,7 @@ contacts much shorter than the foot's typical stance (a swing foot pausing in
 the image) are dropped first (:func:`drop_short_contacts`). Walking toward the
 camera the pose model's foot strike is late whatever the point; it is kept at
 least a minimum double support before the other foot's foot off
-(:func:`bound_late_strikes`).
+(:func:`bound_by_double_support`; walking away, the early foot off likewise).
 
 Conventions as in :mod:`lean_video.gait_events`.
 """
@@ -342,9 +342,9 @@ def order_events(left: list, right: list, *, direction: str, max_gap_s: float = 
     return as_tuples["left"], as_tuples["right"], n_moved
 
 
-def bound_late_strikes(left: list, right: list, *, direction: str,
-                       min_double_support_fraction: float = 0.08) -> tuple[list, list, int]:
-    """Walking toward the camera, end each foot strike at least a minimum double support before the other foot's off.
+def bound_by_double_support(left: list, right: list, *, direction: str,
+                            min_double_support_fraction: float = 0.08) -> tuple[list, list, int]:
+    """Keep the event the frontal view hides at least a minimum double support from the other foot's.
 
     Double support lasts about a tenth of the gait cycle at each end of single
     support in normal walking, longer in slow walking, shorter in fast walking
@@ -355,15 +355,17 @@ def bound_late_strikes(left: list, right: list, *, direction: str,
     offs were within about 30 ms. Each single-support phase then ran on into
     double support, and its mean lean read low (over the found phases lean
     followed the truth with a slope of 0.82-1.04 against 0.97-1.14 over the
-    true windows). So a foot strike is moved to no later than the other foot's
-    foot off less ``min_double_support_fraction`` of the median stride time.
-    0.08 sits below the textbook tenth so that a fast walker, whose double
-    support is shorter, is cut short by little (engineering choice, no
+    true windows). So, walking toward, a foot strike is moved to no later
+    than the other foot's foot off less ``min_double_support_fraction`` of
+    the median stride time. Walking away the toe leaves hidden behind the heel
+    and foot offs are the early events (up to 173 ms on the rendered clip), so
+    a foot off is moved to no earlier than the other foot's strike plus that
+    margin. 0.08 sits below the textbook tenth so that a fast walker, whose
+    double support is shorter, is cut short by little (engineering choice, no
     source). Where the client's double support is longer, as in slow or
-    painful walking, the bound is looser and the strike stays up to the
-    difference late. Walking away the strike is timed from the heel's turning
-    point, which is not late (see :func:`foot_centre_events`); nothing is
-    changed there.
+    painful walking, the bound is looser and the event keeps up to the
+    difference of its error. An event is never moved past the same foot's
+    neighbouring event.
 
     Parameters
     ----------
@@ -380,14 +382,14 @@ def bound_late_strikes(left: list, right: list, *, direction: str,
     left, right : list
         Same layout.
     n_moved : int
-        Number of foot strikes moved earlier.
+        Number of events moved (toward: strikes earlier; away: offs later).
     """
     if direction not in ("toward", "away"):
         raise LeanVideoError(f"direction must be 'toward' or 'away', got {direction!r}; use walking_direction().")
     if not 0.0 <= min_double_support_fraction < 0.25:
         raise LeanVideoError(f"min_double_support_fraction must lie in 0..0.25 of the stride, got "
                              f"{min_double_support_fraction!r}; use 0.08.")
-    if direction == "away" or min_double_support_fraction == 0:
+    if min_double_support_fraction == 0:
         return list(left), list(right), 0
     feet = {"left": [list(iv) for iv in left], "right": [list(iv) for iv in right]}
     strides = [np.diff(sorted(iv[0] for iv in ivs if iv[4])) for ivs in feet.values()]
@@ -400,6 +402,19 @@ def bound_late_strikes(left: list, right: list, *, direction: str,
     n_moved = 0
     for a, b in (("left", "right"), ("right", "left")):
         for iv in feet[a]:
+            if direction == "away":
+                if not iv[5]:
+                    continue
+                # the other foot's strike that began the double support this foot off ends
+                landed = [jv for jv in feet[b] if iv[0] < jv[0] <= iv[1] and jv[4]]
+                if not landed:
+                    continue
+                bound = landed[-1][0] + margin_s
+                own_next = min((kv[0] for kv in feet[a] if kv[0] > iv[1]), default=np.inf)
+                if iv[1] < bound < own_next:
+                    iv[1] = bound
+                    n_moved += 1
+                continue
             if not iv[4]:
                 continue
             # the other foot's contact under way when this one landed, with its seen foot off

@@ -18,7 +18,7 @@ from lean_video.gait_clean import (
     butter_sos, fill_short_gaps, keypoints_to_track, lowpass_irregular, repair_swaps,
 )
 from lean_video.gait_events import refine_event_times, rest_noise, walking_direction
-from lean_video.gait_frontal import bound_late_strikes, drop_short_contacts, foot_centre_events, order_events
+from lean_video.gait_frontal import bound_by_double_support, drop_short_contacts, foot_centre_events, order_events
 
 try:
     from tests.gait_walker import make_walk, match_events
@@ -601,7 +601,7 @@ def test_short_side_advice_follows_why_phases_were_left_out():
     assert any(w.startswith("only 1 usable left") and w.endswith("(film a longer walk)") for w in warnings)
 
 
-# --- late foot strikes walking toward (bound_late_strikes) -------------------
+# --- the hidden event kept a minimum double support away (bound_by_double_support) ---
 
 def test_late_strike_is_bounded_by_a_minimum_double_support():
     # Strides of 1.0 s; the right foot leaves at 1.10 s, the left strike was found
@@ -610,15 +610,17 @@ def test_late_strike_is_bounded_by_a_minimum_double_support():
     # memory) the strike can be no later than 1.10 - 0.08 = 1.02 s.
     left = [(0.08, 0.62, 2, 19, True, True), (1.08, 1.62, 32, 49, True, True)]
     right = [(0.58, 1.10, 17, 33, True, True), (1.58, 2.10, 47, 63, True, True)]
-    l2, r2, n = bound_late_strikes(left, right, direction="toward")
+    l2, r2, n = bound_by_double_support(left, right, direction="toward")
     assert n == 3  # the left strike at 1.08 and the right strikes at 0.58 and 1.58
     assert l2[1][0] == pytest.approx(1.02) and l2[1][1:] == left[1][1:]
     assert r2[0][0] == pytest.approx(0.62 - 0.08) and r2[1][0] == pytest.approx(1.62 - 0.08)
     # a strike already early enough, and walking away, are left alone
     early = [(0.08, 0.62, 2, 19, True, True), (0.98, 1.62, 29, 49, True, True)]
-    assert bound_late_strikes(early, right, direction="toward")[0][1] == early[1]
-    assert bound_late_strikes(left, right, direction="away") == (left, right, 0)
-    assert bound_late_strikes(left, right, direction="toward", min_double_support_fraction=0.0) == (left, right, 0)
+    assert bound_by_double_support(early, right, direction="toward")[0][1] == early[1]
+    # walking away the strikes are not the late events: they stay
+    l3, r3, _ = bound_by_double_support(left, right, direction="away")
+    assert [iv[0] for iv in l3 + r3] == [iv[0] for iv in left + right]
+    assert bound_by_double_support(left, right, direction="toward", min_double_support_fraction=0.0) == (left, right, 0)
 
 
 def test_bound_never_moves_a_strike_before_the_feet_own_last_foot_off():
@@ -626,7 +628,21 @@ def test_bound_never_moves_a_strike_before_the_feet_own_last_foot_off():
     # bound would put the strike before the foot had even left: not moved.
     left = [(0.0, 0.95, 0, 28, True, True), (1.0, 1.6, 30, 48, True, True)]
     right = [(0.5, 1.02, 15, 31, True, True), (1.5, 2.0, 45, 60, True, True)]
-    l2, _, _ = bound_late_strikes(left, right, direction="toward")
+    l2, _, _ = bound_by_double_support(left, right, direction="toward")
     assert l2[1] == left[1]
     with pytest.raises(LeanVideoError, match="min_double_support_fraction must lie in 0..0.25"):
-        bound_late_strikes(left, right, direction="toward", min_double_support_fraction=0.3)
+        bound_by_double_support(left, right, direction="toward", min_double_support_fraction=0.3)
+
+
+def test_early_foot_off_walking_away_is_bounded_by_a_minimum_double_support():
+    # Walking away the toe leaves hidden behind the heel and foot offs are found
+    # early: the right foot was found leaving at 1.05 s, only 0.03 s after the
+    # left landed at 1.02 s. With at least 8 % of the 1.0 s stride it leaves
+    # no earlier than 1.10 s; an off already late enough stays.
+    left = [(0.02, 0.55, 1, 17, True, True), (1.02, 1.55, 31, 47, True, True)]
+    right = [(0.50, 1.05, 15, 32, True, True), (1.50, 2.15, 45, 65, True, True)]
+    l2, r2, n = bound_by_double_support(left, right, direction="away")
+    assert r2[0][1] == pytest.approx(1.10) and r2[0][0] == right[0][0]
+    assert r2[1] == right[1]                             # no left strike after 1.50 is seen: left alone
+    # the left offs at 0.55 and 1.55 were 0.05 s after the right strikes at 0.50 and 1.50
+    assert l2[0][1] == pytest.approx(0.58) and l2[1][1] == pytest.approx(1.58) and n == 3
