@@ -28,7 +28,7 @@ _ROWS: dict[str, dict] = {}
 # mark is removed.
 SIDE_LIGHT = ("truth_strong_lean_24fps", "light from the side: per-frame lean biased +1.36 deg toward the "
               "client's right (the mirror-image pass cannot cancel a bias that mirrors with the scene); "
-              "left lean 1.58 deg under")
+              "left lean 1.28 deg under (1.58 before late strikes were bounded)")
 # The same walker in two more lights, added the next session after a sweep of
 # five light directions. Lit from the camera side it read 1.13 deg low until
 # late foot strikes were bounded by a minimum double support; now within 1.0.
