@@ -35,6 +35,10 @@ SIDE_LIGHT = ("truth_strong_lean_24fps", "light from the side: per-frame lean bi
 OTHER_LIGHT = ("truth_strong_lean_other_light", "large lean read 1.32 deg low (one phase 2.72) in light from the "
                "other side (per-frame bias -0.66 deg); 2.24 before late strikes were bounded")
 
+# Rendered after the double-support bound, measured once as rendered.
+LONG_DS = ("truth_slow_long_double_support", "slow walk with a 17 % double support: foot offs found 49 ms early "
+           "(median); cause not traced yet")
+
 
 def clips(*known: tuple[str, str]) -> list:
     """CLIPS, with a strict xfail on the clips that are known to miss this test's target."""
@@ -65,14 +69,14 @@ def test_direction_roll_and_lean(name):
         err = r[f"{side}_lean_err"]
         if r[f"{side}_lean_true"] is None or err is None:
             continue
-        # Issue target: within 1.0 deg. Measured today: <= 0.78 deg on 17 of 19 clips, median
+        # Issue target: within 1.0 deg. Measured today: <= 0.78 deg on 19 of 21 clips, median
         # 0.24; 1.28 and 1.32 on the strong-lean walker lit from either side (xfails above).
         # Before late strikes were bounded by a minimum double support (gait_frontal.
         # bound_by_double_support): 0.99 on 16 clips, 1.13-2.24 on that walker, median 0.34; without
         # the mirror-image pass of the pose model (first 11 clips) 1.28 and 0.48.
         assert abs(err) <= 1.0, (side, err)
     if r["phase_lean_err_max"] is not None:
-        # Each matched phase's mean lean within 2.0 deg (issue target; measured <= 1.74 on 18
+        # Each matched phase's mean lean within 2.0 deg (issue target; measured <= 1.74 on 20
         # clips, 2.72 on the strong-lean walker lit from the other side).
         assert r["phase_lean_err_max"] <= 2.0
 
@@ -81,7 +85,7 @@ def test_direction_roll_and_lean(name):
 def test_phases_found(name):
     r = row(name)
     # Issue target, met: every steady single-support phase found, none
-    # spurious: 152 of 152 on 19 clips (78 of 88 on the first 11 before double
+    # spurious: 166 of 166 on 21 clips (78 of 88 on the first 11 before double
     # support was enforced and the pose model's mirror-image pass added; 132 of
     # 134 while a strike found 0.202 s past the other foot's foot off on the
     # far, dim clip was beyond a fixed 0.2 s bound, now the other foot's swing).
@@ -94,7 +98,7 @@ def test_phases_found(name):
 def test_per_frame_lean_bias(name):
     # Mean per-frame trunk lean minus truth over the whole clip (the truth's
     # image-plane lean, so camera roll and walking direction are included).
-    # Measured: -0.66 to +0.56 deg on 18 clips, +1.36 in side light (first 11: -0.43 to +0.69 without the mirror-image
+    # Measured: -0.66 to +0.56 deg on 20 clips, +1.36 in side light (first 11: -0.43 to +0.69 without the mirror-image
     # pass of the pose model); a plain pipeline was biased by up to +1.3.
     assert abs(row(name)["lean_frame_bias_deg"]) <= 0.8
 
@@ -126,11 +130,12 @@ def test_event_timing_away():
     assert r["foot_strike_median_ms"] <= 33
 
 
-@pytest.mark.parametrize("name", [n for n in CLIPS if n != "truth_walk_away"])
+@pytest.mark.parametrize("name", [c for c in clips(LONG_DS) if c != "truth_walk_away"])
 def test_foot_off_timing_toward(name):
     r = row(name)
-    # Foot off, walking toward: measured median 6-31 ms (target 33 ms met);
-    # single outliers up to 110 ms remain (target: none beyond 100 ms).
+    # Foot off, walking toward: measured median 6-31 ms on 19 clips (target 33 ms
+    # met), 49 ms on the slow walk with a long double support (xfail above);
+    # single outliers up to 150 ms remain (target: none beyond 100 ms).
     assert r["foot_off_median_ms"] <= 33
 
 
@@ -157,7 +162,7 @@ def test_stated_accuracy_covers_what_is_measured():
 @pytest.mark.parametrize("name", CLIPS)
 def test_single_support_time_per_side(name):
     r = row(name)
-    # Mean single-support time per side minus truth. Measured: -0.03..+0.10 s
+    # Mean single-support time per side minus truth. Measured: -0.04..+0.10 s
     # walking toward the camera (+0.02..+0.14 before late strikes were bounded
     # by a minimum double support), -0.12/-0.04 s walking away; the left/right
     # symmetry index read up to 15 % walking toward (11 % before that bound,
@@ -175,7 +180,7 @@ def test_single_support_time_per_side(name):
 
 
 @pytest.mark.xfail(strict=True, reason="target not met on the strong-lean walker lit from either side: 1.28 and "
-                                       "1.32 deg (0.78 on the other 17 clips)")
+                                       "1.32 deg (0.78 on the other 19 clips)")
 def test_target_per_side_lean_within_one_degree():
     # Met on the first 15 clips since both feet share one footprint tolerance walking toward.
     errs = per_side_lean_errors()

@@ -131,6 +131,24 @@ def default_manifest() -> dict:
                                                      trousers_rgb=(0.35, 0.3, 0.25)),
          CameraParams(height_m=1.4, pitch_deg=-8.0), RoomParams(light_azimuth_deg=-90, light_elevation_deg=35),
          {"fps": 24}, "the strong-lean walker lit from the other side"),
+        # Added after foot events were bounded by a minimum double support of 8 % of
+        # the stride, to see it where the walkers' usual 10 % does not hold: a brisk
+        # walk with 7 % double support (stance 57 %) and a slow, painful-looking walk
+        # with 17 % (stance 67 %); measured once as rendered.
+        ("truth_brisk_short_double_support", WalkParams(seed=24, speed_m_s=1.35, cadence_steps_min=118,
+                                                        stance_fraction=0.57, height_m=1.72, width_scale=1.02,
+                                                        lean_right_stance_deg=3, lean_left_stance_deg=5,
+                                                        pelvic_drop_right_stance_deg=2, start_distance_m=8.0,
+                                                        shirt_rgb=(0.5, 0.1, 0.15)),
+         CameraParams(height_m=1.2, pitch_deg=-5.0), RoomParams(light_azimuth_deg=15, light_elevation_deg=55), {},
+         "brisk walk, double support 7 % of the cycle"),
+        ("truth_slow_long_double_support", WalkParams(seed=25, speed_m_s=0.55, cadence_steps_min=84,
+                                                      stance_fraction=0.67, step_width_m=0.16, height_m=1.64,
+                                                      width_scale=1.12, lean_right_stance_deg=8,
+                                                      lean_left_stance_deg=2, pelvic_drop_right_stance_deg=4,
+                                                      start_distance_m=6.0, shirt_rgb=(0.35, 0.5, 0.35)),
+         CameraParams(height_m=1.1, pitch_deg=-4.0), RoomParams(light_azimuth_deg=-15, light_elevation_deg=60), {},
+         "slow walk leaning 8 deg over the right leg, double support 17 % of the cycle"),
     ]
     for name, walk, cam, room, video, desc in truth:
         clips.append(_entry(name, walk, cam, room, video, kind="truth", description=desc))
