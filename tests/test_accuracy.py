@@ -37,7 +37,7 @@ OTHER_LIGHT = ("truth_strong_lean_other_light", "large lean read 1.32 deg low (o
 
 # Rendered after the double-support bound, measured once as rendered.
 LONG_DS = ("truth_slow_long_double_support", "slow walk with a 17 % double support: foot offs found 49 ms early "
-           "(median); cause not traced yet")
+           "(median), as early from exact keypoints (test_gait_truth_clips): the foot-off method, not the pose model")
 
 
 def clips(*known: tuple[str, str]) -> list:
