@@ -305,8 +305,9 @@ def capture_checks(keypoints: pd.DataFrame, clip: dict, summary: dict, *,
     checks = keypoint_checks(keypoints, clip)
     sides = summary.get("sides", {})
     n_min = min(int((sides.get(s) or {}).get("n_phases") or 0) for s in ("left", "right"))
-    dropped = (summary.get("quality") or {}).get("dropped_phases") or []
-    unclear = sum(1 for d in dropped if not str(d.get("reason", "")).startswith("partial phase"))
+    from lean_video.gait import count_unclear_drops
+
+    unclear = count_unclear_drops((summary.get("quality") or {}).get("dropped_phases"))
     detail = f"fewest single-support phases on one side: {n_min}"
     suggestion = "film a longer walk, or two or three passes, to get at least three steps on each side"
     if unclear:

@@ -45,6 +45,9 @@ log = logging.getLogger(__name__)
 
 SIDES = ("left", "right")
 
+#: Reason prefix of phases lost at the edges of the tracked stretch (not to poor tracking).
+PARTIAL_PHASE = "partial phase"
+
 
 @dataclasses.dataclass(frozen=True)
 class GaitResult:
@@ -136,7 +139,7 @@ def _phases(intervals, time_s, lean, obliq, *, min_phase_s, max_phase_s,
                 continue  # the swing foot never leaves the floor within tracking
             if nxt is None or not nxt[4] or nxt[2] > i1 + 1 + int(round(max_phase_s / frame_s)):
                 drops.append({"stance_side": stance, "start_s": float(s_off),
-                              "reason": "partial phase: the swing foot's next foot strike is not seen (end of clip or lost tracking)"})
+                              "reason": f"{PARTIAL_PHASE}: the swing foot's next foot strike is not seen (end of clip or lost tracking)"})
                 continue
             start, end = s_off, nxt[0]
             holder = [iv for iv in st if iv[0] <= start + slack_s and iv[1] >= end - slack_s]
@@ -195,6 +198,12 @@ def _cadence(events: pd.DataFrame) -> float | None:
     return float(60.0 / np.median(d)) if d.size else None
 
 
+def count_unclear_drops(dropped: list[dict] | None, side: str | None = None) -> int:
+    """How many dropped phases (of ``side``, or of both) failed a quality gate rather than the clip's edges."""
+    return sum(1 for d in dropped or () if (side is None or d.get("stance_side") == side)
+               and not str(d.get("reason", "")).startswith(PARTIAL_PHASE))
+
+
 def summarise_sides(strides: pd.DataFrame, events: pd.DataFrame, warnings: list[str], *,
                      dropped: list[dict] | None = None) -> dict:
     """Per-side statistics, cadence and left/right asymmetry of a set of phases.
@@ -215,8 +224,7 @@ def summarise_sides(strides: pd.DataFrame, events: pd.DataFrame, warnings: list[
     for side in SIDES:
         n = sides[side]["n_phases"]
         if n < 3:
-            unclear = sum(1 for d in dropped or () if d.get("stance_side") == side
-                          and not str(d.get("reason", "")).startswith("partial phase"))
+            unclear = count_unclear_drops(dropped, side)
             advice = (f"{unclear} more left out because the feet or body were not tracked clearly, see the dropped "
                       "phases; film closer, in even light, at 720p or more" if unclear else "film a longer walk")
             warnings.append(f"only {n} usable {side} single-support phase(s); means are unreliable and SD/CI need "

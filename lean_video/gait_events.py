@@ -37,8 +37,9 @@ image. Three stages:
    (a swing foot pausing in the image) are dropped first
    (``drop_short_contacts``). Remaining (measured): on pose-model
    keypoints walking toward the camera foot strike is found late (median
-   +34..+95 ms per clip on the 16 rendered clips walking toward it): the model's heel, hidden behind
-   the foot in a front view, settles only when the toes land.
+   +34..+109 ms per clip on the rendered clips walking toward it): the
+   model's heel, hidden behind the foot in a front view, settles only when
+   the toes land; ``bound_by_double_support`` then limits it.
 """
 
 from __future__ import annotations

@@ -282,8 +282,8 @@ def order_events(left: list, right: list, *, direction: str, max_gap_s: float = 
     not a fixed time: on a far, dim rendered clip the pose model's foot paused
     above its footprint and a strike was found 0.20 s after the other foot's
     foot off, and a fixed 0.2 s bound lost two phases. Only where the other
-    foot's next contact is not seen does ``max_gap_s`` bound it. Which one follows from what the frontal view hides,
-    measured on the rendered clips: walking toward the camera the heel is
+    foot's next contact is not seen does ``max_gap_s`` bound it. Which one
+    follows from what the frontal view hides, measured on the rendered clips: walking toward the camera the heel is
     hidden behind the forefoot at foot strike and the pose model's heel
     settles late (strikes +45..+100 ms, offs about unbiased), so the strike is
     moved back to the foot off; walking away the toe is hidden behind the
@@ -402,28 +402,36 @@ def bound_by_double_support(left: list, right: list, *, direction: str,
     n_moved = 0
     for a, b in (("left", "right"), ("right", "left")):
         for iv in feet[a]:
-            if direction == "away":
-                if not iv[5]:
-                    continue
-                # the other foot's strike that began the double support this foot off ends
-                landed = [jv for jv in feet[b] if iv[0] < jv[0] <= iv[1] and jv[4]]
-                if not landed:
-                    continue
-                bound = landed[-1][0] + margin_s
-                own_next = min((kv[0] for kv in feet[a] if kv[0] > iv[1]), default=np.inf)
-                if iv[1] < bound < own_next:
-                    iv[1] = bound
-                    n_moved += 1
-                continue
-            if not iv[4]:
-                continue
-            # the other foot's contact under way when this one landed, with its seen foot off
-            under = [jv for jv in feet[b] if jv[0] < iv[0] <= jv[1] and jv[5]]
-            if not under:
-                continue
-            bound = under[-1][1] - margin_s
-            own_prev_off = max((kv[1] for kv in feet[a] if kv[1] < iv[0]), default=-np.inf)
-            if own_prev_off < bound < iv[0]:
-                iv[0] = bound
-                n_moved += 1
+            n_moved += (_off_after_other_strike(iv, feet[a], feet[b], margin_s) if direction == "away"
+                        else _strike_before_other_off(iv, feet[a], feet[b], margin_s))
     return ([tuple(iv) for iv in feet["left"]], [tuple(iv) for iv in feet["right"]], n_moved)
+
+
+def _strike_before_other_off(iv: list, own: list, other: list, margin_s: float) -> bool:
+    """Move ``iv``'s strike to ``margin_s`` before the foot off of the other foot's contact under way then."""
+    if not iv[4]:
+        return False
+    under = [jv for jv in other if jv[0] < iv[0] <= jv[1] and jv[5]]
+    if not under:
+        return False
+    bound = under[-1][1] - margin_s
+    own_prev_off = max((kv[1] for kv in own if kv[1] < iv[0]), default=-np.inf)
+    if own_prev_off < bound < iv[0]:
+        iv[0] = bound
+        return True
+    return False
+
+
+def _off_after_other_strike(iv: list, own: list, other: list, margin_s: float) -> bool:
+    """Move ``iv``'s foot off to ``margin_s`` after the other foot's strike that began its double support."""
+    if not iv[5]:
+        return False
+    landed = [jv for jv in other if iv[0] < jv[0] <= iv[1] and jv[4]]
+    if not landed:
+        return False
+    bound = landed[-1][0] + margin_s
+    own_next = min((kv[0] for kv in own if kv[0] > iv[1]), default=np.inf)
+    if iv[1] < bound < own_next:
+        iv[1] = bound
+        return True
+    return False

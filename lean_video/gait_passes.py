@@ -128,8 +128,10 @@ def describe_passes(passes: list[dict]) -> str:
 def _merge_quality(results: list[GaitResult], n_frames: int, warnings: list[str]) -> dict:
     q = {"n_frames": int(n_frames),
          "n_valid_frames": int(sum(r.summary["quality"]["n_valid_frames"] for r in results))}
-    for key in ("n_label_swaps_repaired", "n_side_relabellings", "n_short_contacts_dropped", "n_events_reordered",
-                "n_events_bounded_by_double_support"):
+    # every per-pass count of corrections adds up over the passes
+    counts = [k for k in results[0].summary["quality"]
+              if k.startswith("n_") and k not in ("n_frames", "n_valid_frames", "n_dropped_phases")]
+    for key in counts:
         q[key] = int(sum(r.summary["quality"][key] for r in results))
     q["log_size_slope_per_s"] = None  # one per pass, see "passes"
     q["dropped_phases"] = [d for r in results for d in r.summary["quality"]["dropped_phases"]]
