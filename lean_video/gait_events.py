@@ -462,4 +462,25 @@ def refine_event_times(
         if o_seen and departures:
             t_o = max(departures)[0]
         out.append((float(t_s), float(t_o), i0, i1, s_seen, o_seen))
-    return out, sigma
+    return merge_overlapping(out), sigma
+
+
+def merge_overlapping(intervals: list) -> list:
+    """Join a foot's successive contacts where one begins before the previous one ends.
+
+    A foot cannot land again before it has left: when the position-based
+    timing puts a contact's strike at or before the previous contact's foot
+    off, the two are one contact that a brief speed spike split (seen on a
+    far foot walking away), so they become one, from the first strike to the
+    last foot off. Intervals in the layout of :func:`detect_contacts`, in
+    time order.
+    """
+    out = []
+    for iv in intervals:
+        if out and iv[0] <= out[-1][1]:
+            prev = out[-1]
+            out[-1] = (prev[0], max(prev[1], iv[1]), prev[2], iv[3], prev[4],
+                       iv[5] if iv[1] >= prev[1] else prev[5])
+        else:
+            out.append(iv)
+    return out

@@ -36,6 +36,8 @@ OTHER_LIGHT = ("truth_strong_lean_other_light", "large lean read 1.32 deg low (o
                "other side (per-frame bias -0.66 deg); 2.24 before late strikes were bounded")
 
 # Rendered after the double-support bound, measured once as rendered.
+AWAY_BIAS = ("truth_away_strong_lean_left", "filmed from behind in light from 45 deg: per-frame lean biased "
+             "-0.85 deg, so the left (larger) lean reads 1.05 deg high and the right 0.83 low")
 LONG_DS = ("truth_slow_long_double_support", "slow walk with a 17 % double support: foot offs found 49 ms early "
            "(median), as early from exact keypoints (test_gait_truth_clips): the foot-off method, not the pose model")
 
@@ -59,7 +61,7 @@ def row(name: str) -> dict:
     return _ROWS[name]
 
 
-@pytest.mark.parametrize("name", clips(SIDE_LIGHT, OTHER_LIGHT))
+@pytest.mark.parametrize("name", clips(SIDE_LIGHT, OTHER_LIGHT, AWAY_BIAS))
 def test_direction_roll_and_lean(name):
     r = row(name)
     assert r["direction"] == r["direction_true"]
@@ -69,14 +71,15 @@ def test_direction_roll_and_lean(name):
         err = r[f"{side}_lean_err"]
         if r[f"{side}_lean_true"] is None or err is None:
             continue
-        # Issue target: within 1.0 deg. Measured today: <= 0.78 deg on 19 of 21 clips, median
-        # 0.24; 1.28 and 1.32 on the strong-lean walker lit from either side (xfails above).
+        # Issue target: within 1.0 deg. Measured today: <= 0.94 deg on 21 of 24 clips, median
+        # 0.27; 1.28 and 1.32 on the strong-lean walker lit from either side, 1.05 on the
+        # walker filmed from behind with a 9 deg lean (xfails above).
         # Before late strikes were bounded by a minimum double support (gait_frontal.
         # bound_by_double_support): 0.99 on 16 clips, 1.13-2.24 on that walker, median 0.34; without
         # the mirror-image pass of the pose model (first 11 clips) 1.28 and 0.48.
         assert abs(err) <= 1.0, (side, err)
     if r["phase_lean_err_max"] is not None:
-        # Each matched phase's mean lean within 2.0 deg (issue target; measured <= 1.74 on 20
+        # Each matched phase's mean lean within 2.0 deg (issue target; measured <= 1.74 on 23
         # clips, 2.72 on the strong-lean walker lit from the other side).
         assert r["phase_lean_err_max"] <= 2.0
 
@@ -85,7 +88,9 @@ def test_direction_roll_and_lean(name):
 def test_phases_found(name):
     r = row(name)
     # Issue target, met: every steady single-support phase found, none
-    # spurious: 166 of 166 on 21 clips (78 of 88 on the first 11 before double
+    # spurious: 191 of 191 on 24 clips (188 before a walking-away strike found
+    # within a quarter stride of the foot's own foot off was taken for a
+    # mid-swing pause, gait_frontal.foot_centre_events; 78 of 88 on the first 11 before double
     # support was enforced and the pose model's mirror-image pass added; 132 of
     # 134 while a strike found 0.202 s past the other foot's foot off on the
     # far, dim clip was beyond a fixed 0.2 s bound, now the other foot's swing).
@@ -94,11 +99,12 @@ def test_phases_found(name):
     assert r["phases_spurious"] == 0
 
 
-@pytest.mark.parametrize("name", clips(SIDE_LIGHT))
+@pytest.mark.parametrize("name", clips(SIDE_LIGHT, AWAY_BIAS))
 def test_per_frame_lean_bias(name):
     # Mean per-frame trunk lean minus truth over the whole clip (the truth's
     # image-plane lean, so camera roll and walking direction are included).
-    # Measured: -0.66 to +0.56 deg on 20 clips, +1.36 in side light (first 11: -0.43 to +0.69 without the mirror-image
+    # Measured: -0.66 to +0.56 deg on 22 clips, +1.36 in side light, -0.85 on a walker
+    # filmed from behind in light from 45 deg (first 11: -0.43 to +0.69 without the mirror-image
     # pass of the pose model); a plain pipeline was biased by up to +1.3.
     assert abs(row(name)["lean_frame_bias_deg"]) <= 0.8
 
@@ -107,30 +113,38 @@ def test_per_frame_lean_bias(name):
 def test_found_phases_cover_the_true_ones(name):
     r = row(name)
     # Each matched phase overlaps at least this share of its true window.
-    # Measured: 0.80-1.00 walking toward, 0.57 walking away (a plain
+    # Measured: 0.80-1.00 walking toward, 0.58-0.91 walking away (a plain
     # speed-threshold detector covered only 55-65 % walking toward).
     floor = 0.5 if r["direction_true"] == "away" else 0.7
     assert r["phase_coverage_min"] is not None and r["phase_coverage_min"] >= floor
 
 
-def test_walking_away_assigns_sides():
-    r = row("truth_walk_away")
+AWAY = [c["name"] for c in demo_manifest()["clips"] if c["walk"]["start_distance_m"] < c["walk"]["end_distance_m"]]
+TOWARD = [n for n in CLIPS if n not in AWAY]
+
+
+@pytest.mark.parametrize("name", AWAY)
+def test_walking_away_assigns_sides(name):
+    r = row(name)
     assert r["direction"] == "away"
-    # The larger lean belongs to the right stance side in truth; it must be found there.
+    # Each walker has one side with the larger lean in truth; it must be found there
+    # (a swap would put errors of twice the left/right difference, 3-6 deg, here).
     assert abs(r["right_lean_err"]) <= 1.5 and abs(r["left_lean_err"]) <= 1.5
 
 
-def test_event_timing_away():
-    r = row("truth_walk_away")
-    # Walking away, foot off: measured median 32 ms (130 ms early before the heel
-    # re-timing; target 33 ms). Bound: measured plus a quarter frame.
-    assert r["foot_off_median_ms"] <= 40
-    # Foot strike: measured median 25 ms (84 ms early while the heel's turning
-    # point was searched only up to the other foot's early-found foot off).
-    assert r["foot_strike_median_ms"] <= 33
+@pytest.mark.parametrize("name", AWAY)
+def test_event_timing_away(name):
+    r = row(name)
+    # Walking away, foot off: measured median 32-47 ms per clip (130 ms early on the
+    # first walking-away clip before the heel re-timing; target 33 ms, see
+    # test_target_event_timing_one_frame). Bound: the largest measured plus a quarter frame.
+    assert r["foot_off_median_ms"] <= 55
+    # Foot strike: measured median 24-39 ms (84 ms early on the first clip while the
+    # heel's turning point was searched only up to the other foot's early foot off).
+    assert r["foot_strike_median_ms"] <= 47
 
 
-@pytest.mark.parametrize("name", [c for c in clips(LONG_DS) if c != "truth_walk_away"])
+@pytest.mark.parametrize("name", [c for c in clips(LONG_DS) if c in TOWARD])
 def test_foot_off_timing_toward(name):
     r = row(name)
     # Foot off, walking toward: measured median 6-31 ms on 19 clips (target 33 ms
@@ -164,31 +178,31 @@ def test_single_support_time_per_side(name):
     r = row(name)
     # Mean single-support time per side minus truth. Measured: -0.04..+0.10 s
     # walking toward the camera (+0.02..+0.14 before late strikes were bounded
-    # by a minimum double support), -0.12/-0.04 s walking away; the left/right
+    # by a minimum double support), -0.13..+0.05 s walking away; the left/right
     # symmetry index read up to 15 % walking toward (11 % before that bound,
     # relative to the longer single-support times then; 21 %
     # before both feet shared one footprint tolerance, gait.shared_noise) and
-    # 18 % walking away (27 % before early foot offs were bounded the same way,
+    # 24 % walking away (18 % on the first walking-away clip, 27 % there before early foot offs were bounded the same way,
     # 51 % before the walking-away strike search reached past the other
     # foot's early foot off) on walks whose sides are equal.
     # Bounds: measured plus about 0.02 s / 4 points.
     # No target of its own in the issue; it follows from the event-timing one.
     for side in ("left", "right"):
         assert -0.17 <= r[f"{side}_ss_err_s"] <= 0.17, side
-    bound = 22 if r["direction_true"] == "away" else 19
+    bound = 28 if r["direction_true"] == "away" else 19
     assert abs(r["ss_symmetry_index_err_pct"]) <= bound
 
 
 @pytest.mark.xfail(strict=True, reason="target not met on the strong-lean walker lit from either side: 1.28 and "
-                                       "1.32 deg (0.78 on the other 19 clips)")
+                                       "1.32 deg, and 1.05 on a walker filmed from behind (0.94 on the other 21 clips)")
 def test_target_per_side_lean_within_one_degree():
     # Met on the first 15 clips since both feet share one footprint tolerance walking toward.
     errs = per_side_lean_errors()
     assert max(errs) <= 1.0
 
 
-@pytest.mark.xfail(strict=True, reason="target not met yet: foot strike 16-44 ms late per clip walking toward, single "
-                                       "events up to 187 ms off")
+@pytest.mark.xfail(strict=True, reason="target not met yet: foot strike 16-44 ms late per clip walking toward, "
+                                       "foot off 32-47 ms walking away, single events up to 191 ms off")
 def test_target_event_timing_one_frame():
     for n in CLIPS:
         r = row(n)

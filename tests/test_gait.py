@@ -17,7 +17,7 @@ from lean_video.gait import analyse_keypoints, frame_angles, summarise_sides
 from lean_video.gait_clean import (
     butter_sos, fill_short_gaps, keypoints_to_track, lowpass_irregular, repair_swaps,
 )
-from lean_video.gait_events import refine_event_times, rest_noise, walking_direction
+from lean_video.gait_events import merge_overlapping, refine_event_times, rest_noise, walking_direction
 from lean_video.gait_frontal import bound_by_double_support, drop_short_contacts, foot_centre_events, order_events
 
 try:
@@ -434,6 +434,40 @@ def test_foot_strike_away_when_heel_halfway_down_from_highest_image_point():
     out = foot_centre_events(track, t, "left", iv, direction="away", other_intervals=other,
                              away_strike_margin_s=0.0)
     assert out[0][0] == 1.12
+
+
+def test_foot_strike_away_after_a_mid_swing_pause():
+    # Walking away, far: the receding heel pauses in the image in mid-swing
+    # (0.55-0.75 s) where it will land, then creeps up 5 px to its highest
+    # image point at the real landing, 1.10 s, and rests 1 px lower. Foot off
+    # 0.45 s, stride 1.2 s: a strike at 0.55 s would leave a 0.1 s swing.
+    t = np.arange(0, 2.4, 1 / 30)
+    heel_y = np.interp(t, [0.0, 0.45, 0.55, 0.75, 1.10, 1.13, 2.4], [760, 760, 745, 744, 739, 740, 740])
+    track = _foot(t, heel_y, heel_y + 15)
+    prev = (-0.75, 0.45, 0, 14, False, True)
+    iv = [prev, (0.55, 1.65, 17, 50, True, True)]
+    other = [(-0.2, 0.05, 0, 2, False, True), (0.25, 1.25, 8, 38, True, True)]
+    # (foot offs are left as given: away_off=False)
+    out = foot_centre_events(track, t, "left", iv, direction="away", other_intervals=other, away_off=False)
+    # strike found where the heel is halfway down from its top (1.10 s) to its footprint
+    assert out[1][0] == pytest.approx(1.10 + 0.5 / 30, abs=0.01)
+    assert out[0] == prev
+    # the rule switched off: the search stays near the pause, no turning point, 0.55 s kept
+    off = foot_centre_events(track, t, "left", iv, direction="away", other_intervals=other,
+                             away_off=False, min_swing_fraction=0.0)
+    assert off[1][0] == 0.55
+    with pytest.raises(LeanVideoError, match="min_swing_fraction must lie in"):
+        foot_centre_events(track, t, "left", iv, direction="away", min_swing_fraction=1.0)
+
+
+def test_contacts_overlapping_after_timing_are_one_contact():
+    # A far foot's contact split by a speed spike: after position-based timing
+    # the second part begins (6.08 s) before the first ends (6.48 s).
+    iv = [(4.94, 5.48, 10, 20, True, True), (6.05, 6.48, 30, 40, True, True),
+          (6.08, 6.89, 42, 50, True, False)]
+    assert merge_overlapping(iv) == [iv[0], (6.05, 6.89, 30, 50, True, False)]
+    assert merge_overlapping(iv[:2]) == iv[:2]
+    assert merge_overlapping([]) == []
 
 
 def test_foot_centre_timing_rejects_bad_cutoff():

@@ -149,6 +149,31 @@ def default_manifest() -> dict:
                                                       start_distance_m=6.0, shirt_rgb=(0.35, 0.5, 0.35)),
          CameraParams(height_m=1.1, pitch_deg=-4.0), RoomParams(light_azimuth_deg=-15, light_elevation_deg=60), {},
          "slow walk leaning 8 deg over the right leg, double support 17 % of the cycle"),
+        # Added in a later session: the only walking-away clip so far was
+        # truth_walk_away, so three more walking away, rendered once the methods
+        # were settled and measured as they came (held out).
+        ("truth_away_strong_lean_left", WalkParams(seed=26, start_distance_m=1.8, end_distance_m=7.8, speed_m_s=0.8,
+                                                   cadence_steps_min=96, height_m=1.70, width_scale=1.05,
+                                                   lean_left_stance_deg=9, lean_right_stance_deg=3,
+                                                   pelvic_drop_left_stance_deg=4, shirt_rgb=(0.25, 0.4, 0.55),
+                                                   trousers_rgb=(0.2, 0.2, 0.2)),
+         CameraParams(height_m=1.0, pitch_deg=-3.0), RoomParams(light_azimuth_deg=45, light_elevation_deg=50), {},
+         "walking away, lean 9 deg over the left leg"),
+        ("truth_away_fast_offset", WalkParams(seed=27, start_distance_m=2.5, end_distance_m=9.0, speed_m_s=1.3,
+                                              cadence_steps_min=112, stance_fraction=0.58, height_m=1.80,
+                                              width_scale=0.95, lateral_offset_m=0.3, lean_right_stance_deg=5,
+                                              lean_left_stance_deg=5, pelvic_drop_right_stance_deg=2,
+                                              shirt_rgb=(0.8, 0.75, 0.6)),
+         CameraParams(height_m=1.3, pitch_deg=-6.0), RoomParams(light_azimuth_deg=-50, light_elevation_deg=55), {},
+         "walking away fast, walking line 0.3 m off the camera axis, symmetric lean 5 deg"),
+        ("truth_away_slow_60fps", WalkParams(seed=28, start_distance_m=2.0, end_distance_m=6.5, speed_m_s=0.65,
+                                             cadence_steps_min=90, stance_fraction=0.63, step_width_m=0.14,
+                                             height_m=1.58, width_scale=1.12, lateral_offset_m=-0.35,
+                                             lean_right_stance_deg=7, lean_left_stance_deg=1,
+                                             pelvic_drop_right_stance_deg=3, shirt_rgb=(0.6, 0.3, 0.45),
+                                             trousers_rgb=(0.3, 0.3, 0.35)),
+         CameraParams(height_m=1.2, pitch_deg=-5.0), RoomParams(light_azimuth_deg=5, light_elevation_deg=65),
+         {"fps": 60}, "walking away slowly, 60 fps, lean 7 deg over the right leg"),
     ]
     for name, walk, cam, room, video, desc in truth:
         clips.append(_entry(name, walk, cam, room, video, kind="truth", description=desc))
