@@ -59,7 +59,7 @@ LEAN_METHOD = {
 EVENTS_METHOD = {
     "validated_on": "24 rendered walking clips with exact truth (tools/eval_accuracy.py, 2026-12-02)",
     "foot_off_median_error_ms": {"toward": [6, 50], "away": [32, 47]},
-    "foot_strike_median_error_ms": {"toward": [16, 44], "away": [24, 39]},
+    "foot_strike_median_error_ms": {"toward": [16, 44], "away": [22, 39]},
     "single_support_error_s": {"toward": [-0.04, 0.10], "away": [-0.13, 0.05]},
     "single_support_symmetry_index_error_pct": {"toward": 16, "away": 25},
     "note": ("Foot offs were found within about 30 ms (median per clip) on rendered test walks, 50 ms early on a "
@@ -69,7 +69,7 @@ EVENTS_METHOD = {
              "double support shorter than that is rare in walking), which left strikes 16 ms early to 44 ms late (median "
              "per clip; 34-109 ms without it) and single-support times up to 0.10 s long. Where the client's "
              "double support is long, as in slow or painful walking, strikes can stay later. Walking away "
-             "strikes were 24-39 ms off and foot offs 32-47 ms (median per clip); foot offs, found early, "
+             "strikes were 22-39 ms off and foot offs 32-47 ms (median per clip); foot offs, found early, "
              "are kept the same margin after the other foot's strike. On test walks with equal sides, the "
              "left/right difference in single-support time read up to 15 % (24 % walking away): do not read "
              "a difference below about 20 % (30 % walking away) as a real asymmetry; compare single-support times between sessions "

@@ -460,6 +460,26 @@ def test_foot_strike_away_after_a_mid_swing_pause():
         foot_centre_events(track, t, "left", iv, direction="away", min_swing_fraction=1.0)
 
 
+def test_foot_strike_away_search_starts_a_quarter_stride_after_foot_off():
+    # Far walking away: the heel, high in initial swing (0.60 s), comes down the
+    # image, turns at its landing approach (highest point 0.94 s) and rests at
+    # 1.0 s. The position-based strike, 0.78 s, is early but not within a
+    # quarter stride (0.30 s) of the foot off (0.45 s). Its usual window,
+    # 0.71-0.95 s, begins on the initial-swing descent, higher than the turn;
+    # started (and ended) 0.04 s later, at 0.75 s, it holds the turn.
+    t = np.arange(0, 2.4, 1 / 30)
+    heel_y = np.interp(t, [0.0, 0.45, 0.60, 0.76, 0.94, 0.97, 2.4], [760, 760, 725, 736, 733, 735, 735])
+    track = _foot(t, heel_y, heel_y + 15)
+    prev = (-0.75, 0.45, 0, 14, False, True)
+    iv = [prev, (0.78, 1.65, 23, 50, True, True)]
+    other = [(-0.2, 0.05, 0, 2, False, True), (0.25, 1.25, 8, 38, True, True)]
+    out = foot_centre_events(track, t, "left", iv, direction="away", other_intervals=other, away_off=False)
+    assert out[1][0] == pytest.approx(0.94 + 0.015, abs=0.01)
+    off = foot_centre_events(track, t, "left", iv, direction="away", other_intervals=other,
+                             away_off=False, min_swing_fraction=0.0)
+    assert off[1][0] == 0.78
+
+
 def test_contacts_overlapping_after_timing_are_one_contact():
     # A far foot's contact split by a speed spike: after position-based timing
     # the second part begins (6.08 s) before the first ends (6.48 s).
