@@ -277,6 +277,9 @@ def render_session_report(
             raise LeanVideoError(f"{name} must be a pandas DataFrame, got {type(df).__name__}; pass the gait table.")
     sides = {s: _side_view(s, (summary["sides"].get(s) or {}), strides) for s in SIDES}
     roll = float(summary.get("camera_roll_deg") or 0.0)
+    # Numbers from a method that failed validation (wrong sign on the test
+    # walkers) are not shown to client or clinician; the CSV and JSON keep them.
+    pelvis_shown = (summary.get("pelvic_obliquity_method") or {}).get("validated") is not False
     pics = {}
     for side, p in (pictures or {}).items():
         if side not in SIDES or not isinstance(p, Mapping) or "rgb" not in p or "keypoints" not in p:
@@ -284,11 +287,9 @@ def render_session_report(
                                  "pass the peak-lean frame and its keypoints.")
         lean = p.get("lean_deg")
         pics[side] = {"uri": annotate_peak_frame(p["rgb"], p["keypoints"], stance_side=side, lean_deg=lean,
-                                                 camera_roll_deg=roll, blur_faces=blur_faces),
+                                                 camera_roll_deg=roll, blur_faces=blur_faces,
+                                                 hip_line=pelvis_shown),
                       "lean": lean, "time_s": p.get("time_s")}
-    # Numbers from a method that failed validation (wrong sign on the test
-    # walkers) are not shown to client or clinician; the CSV and JSON keep them.
-    pelvis_shown = (summary.get("pelvic_obliquity_method") or {}).get("validated") is not False
     plots = [("plot-lean", figures.lean_timeseries(frames, strides, events))]
     if pelvis_shown:
         plots.append(("plot-obliquity", figures.obliquity_timeseries(frames, strides)))

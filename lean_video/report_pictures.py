@@ -133,7 +133,7 @@ def blur_face(rgb: np.ndarray, keypoints: Mapping[str, object]) -> np.ndarray:
 
 def annotate_peak_frame(
     rgb: np.ndarray, keypoints: Mapping[str, object], *, stance_side: str, lean_deg: float | None = None,
-    camera_roll_deg: float = 0.0, blur_faces: bool = True,
+    camera_roll_deg: float = 0.0, blur_faces: bool = True, hip_line: bool = True,
 ) -> str:
     """Draw skeleton, trunk line and vertical on the peak-lean frame; return a PNG data URI.
 
@@ -152,6 +152,11 @@ def annotate_peak_frame(
         image vertical turned clockwise by this angle.
     blur_faces : bool
         Pixelate the head region (default True).
+    hip_line : bool
+        Draw the line through the model's two hip points. Leave it out while
+        pelvic obliquity from those points is not validated: on the rendered
+        test walkers that line tilted opposite to the pelvis, so drawn on the
+        picture it would mislead a clinician judging pelvic drop by eye.
     """
     if not (isinstance(rgb, np.ndarray) and rgb.ndim == 3 and rgb.shape[2] == 3 and rgb.dtype == np.uint8):
         raise LeanVideoError("picture rgb must be an (H, W, 3) uint8 array; pass the decoded RGB frame.")
@@ -166,6 +171,8 @@ def annotate_peak_frame(
     img = np.ascontiguousarray(img)
     th = max(2, int(round(img.shape[1] / 240)))
     for a, b in _BONES:
+        if not hip_line and (a, b) == ("left_hip", "right_hip"):
+            continue
         pa, pb = _pt(kp, a), _pt(kp, b)
         if pa is None or pb is None:
             continue

@@ -494,6 +494,31 @@ def test_annotated_picture_draws_trunk_line_and_honours_blur_option():
         annotate_peak_frame(pic["rgb"].astype(float), pic["keypoints"], stance_side="left")
 
 
+def test_picture_leaves_out_the_hip_line_while_pelvic_obliquity_is_not_validated():
+    # The line through the model's hip points tilted opposite to the pelvis on
+    # the rendered walkers (README); drawn, it would mislead a judgement by eye.
+    pic = make_picture()
+    with_line = _decode(annotate_peak_frame(pic["rgb"], pic["keypoints"], stance_side="left", blur_faces=False))
+    without = _decode(annotate_peak_frame(pic["rgb"], pic["keypoints"], stance_side="left", blur_faces=False,
+                                          hip_line=False))
+    x0, y0, x1, y1 = body_crop(pic["keypoints"], (720, 405))
+    k = with_line.shape[1] / (x1 - x0)
+    # a point on the hip line, (225, 380), away from the trunk line and the legs
+    r, c = int(round((380 - y0) * k)), int(round((225 - x0) * k))
+    assert with_line[r, c].min() > 220          # the light-grey hip line
+    assert np.abs(without[r, c].astype(int) - 180).max() <= 6   # the plain background
+    strides = make_strides()
+    summary = make_summary(strides)
+    summary["pelvic_obliquity_method"] = {"validated": False, "note": "Moved the wrong way on test walkers."}
+    html = render_session_report(summary, make_frames(strides), strides, events=make_events(strides),
+                                 pictures={"left": make_picture(6.0)})
+    assert "No line is drawn between the hips" in html
+    summary["pelvic_obliquity_method"] = {"validated": True, "note": "Checked on test walkers."}
+    html = render_session_report(summary, make_frames(strides), strides, events=make_events(strides),
+                                 pictures={"left": make_picture(6.0)})
+    assert "No line is drawn between the hips" not in html
+
+
 def test_body_crop_keeps_every_keypoint():
     kp = {"nose": (500, 300), "left_ankle": (560, 1500), "right_ankle": (440, 1500)}
     x0, y0, x1, y1 = body_crop(kp, (1920, 1080))
