@@ -436,28 +436,35 @@ def test_foot_strike_away_when_heel_halfway_down_from_highest_image_point():
     assert out[0][0] == 1.12
 
 
+def _away_strike(heel_knots, strike_s, **kw):
+    """Left foot walking away: foot off 0.45 s, stride 1.2 s, heel image row through ``heel_knots``.
+
+    Returns (intervals out, the previous contact) for a position-based strike at
+    ``strike_s``; foot offs are left as given (``away_off=False``).
+    """
+    t = np.arange(0, 2.4, 1 / 30)
+    heel_y = np.interp(t, *zip(*heel_knots))
+    prev = (-0.75, 0.45, 0, 14, False, True)
+    iv = [prev, (strike_s, 1.65, int(strike_s * 30), 50, True, True)]
+    other = [(-0.2, 0.05, 0, 2, False, True), (0.25, 1.25, 8, 38, True, True)]
+    return foot_centre_events(_foot(t, heel_y, heel_y + 15), t, "left", iv, direction="away",
+                              other_intervals=other, away_off=False, **kw), prev
+
+
 def test_foot_strike_away_after_a_mid_swing_pause():
     # Walking away, far: the receding heel pauses in the image in mid-swing
     # (0.55-0.75 s) where it will land, then creeps up 5 px to its highest
     # image point at the real landing, 1.10 s, and rests 1 px lower. Foot off
     # 0.45 s, stride 1.2 s: a strike at 0.55 s would leave a 0.1 s swing.
-    t = np.arange(0, 2.4, 1 / 30)
-    heel_y = np.interp(t, [0.0, 0.45, 0.55, 0.75, 1.10, 1.13, 2.4], [760, 760, 745, 744, 739, 740, 740])
-    track = _foot(t, heel_y, heel_y + 15)
-    prev = (-0.75, 0.45, 0, 14, False, True)
-    iv = [prev, (0.55, 1.65, 17, 50, True, True)]
-    other = [(-0.2, 0.05, 0, 2, False, True), (0.25, 1.25, 8, 38, True, True)]
-    # (foot offs are left as given: away_off=False)
-    out = foot_centre_events(track, t, "left", iv, direction="away", other_intervals=other, away_off=False)
+    knots = [(0.0, 760), (0.45, 760), (0.55, 745), (0.75, 744), (1.10, 739), (1.13, 740), (2.4, 740)]
+    out, prev = _away_strike(knots, 0.55)
     # strike found where the heel is halfway down from its top (1.10 s) to its footprint
     assert out[1][0] == pytest.approx(1.10 + 0.5 / 30, abs=0.01)
     assert out[0] == prev
     # the rule switched off: the search stays near the pause, no turning point, 0.55 s kept
-    off = foot_centre_events(track, t, "left", iv, direction="away", other_intervals=other,
-                             away_off=False, min_swing_fraction=0.0)
-    assert off[1][0] == 0.55
+    assert _away_strike(knots, 0.55, min_swing_fraction=0.0)[0][1][0] == 0.55
     with pytest.raises(LeanVideoError, match="min_swing_fraction must lie in"):
-        foot_centre_events(track, t, "left", iv, direction="away", min_swing_fraction=1.0)
+        _away_strike(knots, 0.55, min_swing_fraction=1.0)
 
 
 def test_foot_strike_away_search_starts_a_quarter_stride_after_foot_off():
@@ -467,17 +474,9 @@ def test_foot_strike_away_search_starts_a_quarter_stride_after_foot_off():
     # quarter stride (0.30 s) of the foot off (0.45 s). Its usual window,
     # 0.71-0.95 s, begins on the initial-swing descent, higher than the turn;
     # started (and ended) 0.04 s later, at 0.75 s, it holds the turn.
-    t = np.arange(0, 2.4, 1 / 30)
-    heel_y = np.interp(t, [0.0, 0.45, 0.60, 0.76, 0.94, 0.97, 2.4], [760, 760, 725, 736, 733, 735, 735])
-    track = _foot(t, heel_y, heel_y + 15)
-    prev = (-0.75, 0.45, 0, 14, False, True)
-    iv = [prev, (0.78, 1.65, 23, 50, True, True)]
-    other = [(-0.2, 0.05, 0, 2, False, True), (0.25, 1.25, 8, 38, True, True)]
-    out = foot_centre_events(track, t, "left", iv, direction="away", other_intervals=other, away_off=False)
-    assert out[1][0] == pytest.approx(0.94 + 0.015, abs=0.01)
-    off = foot_centre_events(track, t, "left", iv, direction="away", other_intervals=other,
-                             away_off=False, min_swing_fraction=0.0)
-    assert off[1][0] == 0.78
+    knots = [(0.0, 760), (0.45, 760), (0.60, 725), (0.76, 736), (0.94, 733), (0.97, 735), (2.4, 735)]
+    assert _away_strike(knots, 0.78)[0][1][0] == pytest.approx(0.94 + 0.015, abs=0.01)
+    assert _away_strike(knots, 0.78, min_swing_fraction=0.0)[0][1][0] == 0.78
 
 
 def test_contacts_overlapping_after_timing_are_one_contact():
