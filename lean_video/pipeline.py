@@ -49,8 +49,9 @@ LEAN_METHOD = {
              "the truth on 21 (median 0.27; without the mirror-image pass, option --no-mirror, larger). The "
              "three others are a walker with a large lean (12 degrees at its peak) lit from one side or the "
              "other, 1.3 degrees off, and a walker filmed from behind, 1.05 degrees off. Light from one side "
-             "shifted the lean of every frame by up to 1.4 degrees, toward or away from the light. These errors do not shrink with more steps, so the "
-             "95% interval shown covers step-to-step variation only. Treat a per-side difference or a change "
+             "shifted the lean of every frame by up to 1.4 degrees, toward or away from the light. These "
+             "errors do not shrink with more steps, so the 95% interval shown covers step-to-step variation "
+             "only. Treat a per-side difference or a change "
              "between sessions below about 1.5 degrees with caution, and film in even light rather than with "
              "a window or lamp to one side. Accuracy on real clients is not yet measured."),
 }
@@ -62,18 +63,18 @@ EVENTS_METHOD = {
     "foot_strike_median_error_ms": {"toward": [16, 44], "away": [22, 39]},
     "single_support_error_s": {"toward": [-0.04, 0.10], "away": [-0.13, 0.05]},
     "single_support_symmetry_index_error_pct": {"toward": 16, "away": 25},
-    "note": ("Foot offs were found within about 30 ms (median per clip) on rendered test walks, 50 ms early on a "
-             "slow walk with a long double support. Walking toward "
-             "the camera the heel lands hidden behind the forefoot and the pose model finds the strike late; "
-             "each strike is therefore kept at least 8 % of the stride before the other foot's foot off (a "
+    "note": ("Walking toward the camera: foot offs were found within about 30 ms (median per clip) on rendered "
+             "test walks, 50 ms early on a slow walk with a long double support. The heel lands hidden behind "
+             "the forefoot and the pose model finds the strike late, so "
+             "each strike is kept at least 8 % of the stride before the other foot's foot off (a "
              "double support shorter than that is rare in walking), which left strikes 16 ms early to 44 ms late (median "
              "per clip; 34-109 ms without it) and single-support times up to 0.10 s long. Where the client's "
              "double support is long, as in slow or painful walking, strikes can stay later. Walking away "
-             "strikes were 22-39 ms off and foot offs 32-47 ms (median per clip); foot offs, found early, "
-             "are kept the same margin after the other foot's strike. On test walks with equal sides, the "
+             "strikes were 22-39 ms off and foot offs 32-47 ms (median per clip; seen from behind, the pose "
+             "model finds the heel rising late). On test walks with equal sides, the "
              "left/right difference in single-support time read up to 15 % (24 % walking away): do not read "
-             "a difference below about 20 % (30 % walking away) as a real asymmetry; compare single-support times between sessions "
-             "filmed the same way."),
+             "a difference below about 20 % (30 % walking away) as a real asymmetry; compare single-support "
+             "times between sessions filmed the same way."),
 }
 
 #: Version of the scene cache's content; bump when the scene checks change.
