@@ -315,8 +315,25 @@ def capture_checks(keypoints: pd.DataFrame, clip: dict, summary: dict, *,
         suggestion = "film closer, in even light, at 720p or more; then " + suggestion
     checks.append(_check("phases_per_side", _grade(n_min, PHASE_LIMITS), n_min, detail, suggestion))
     checks.append(direction_check(keypoints, summary.get("direction"), summary.get("passes")))
+    if summary.get("pelvic_obliquity_source") == "pelvis markers":
+        checks.append(pelvis_marker_check(sides))
     checks.extend(extra)
     return checks
+
+
+def pelvis_marker_check(sides: dict) -> dict:
+    """Share of single-support phases whose pelvic drop the pelvis markers gave.
+
+    Pass at 80 % or more, warn from 50 %, fail below (common practice, no source).
+    """
+    n = sum(int((sides.get(s) or {}).get("n_phases") or 0) for s in ("left", "right"))
+    n_drop = sum(int((sides.get(s) or {}).get("n_pelvic_drop_phases") or 0) for s in ("left", "right"))
+    share = n_drop / n if n else 0.0
+    status = "pass" if share >= 0.8 else ("warn" if share >= 0.5 else "fail")
+    return _check("pelvis_markers", status, round(share, 3),
+                  f"pelvic drop measured in {n_drop} of {n} single-support phases from the pelvis markers",
+                  "keep both stickers in view (hands and clothing clear of them), film closer, and use stickers "
+                  "at least 3 cm across in a colour unlike the client's clothes")
 
 
 def direction_check(keypoints: pd.DataFrame, direction: str | None, passes: list | None = None) -> dict:

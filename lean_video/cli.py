@@ -15,6 +15,7 @@ from pathlib import Path
 
 from lean_video import __version__
 from lean_video.errors import LeanVideoError
+from lean_video.pose_markers import MARKER_HUES_DEG
 
 log = logging.getLogger("lean_video")
 
@@ -52,7 +53,13 @@ def cmd_pose(args: argparse.Namespace) -> int:
                                  mirror_average=not args.no_mirror)
     run = pose.run_pose(args.clip, settings=settings, cache_dir=args.cache_dir,
                         use_cache=not args.no_cache, progress=_show_progress(args))
-    kp_path, clip_path = pose.write_handover(run, out)
+    markers = None
+    if args.pelvis_markers is not None:
+        from lean_video import pose_markers
+
+        markers = pose_markers.track_pelvis_markers(args.clip, run.keypoints,
+                                                    search=pose_markers.MarkerSearch(colour=args.pelvis_markers))
+    kp_path, clip_path = pose.write_handover(run, out, markers=markers)
     share = 100.0 * run.n_detected / max(run.n_frames, 1)
     print(f"{run.n_frames} frames, person found in {run.n_detected} ({share:.1f}%, "
           f"{run.n_recovered} via enlarged crops); wrote {kp_path} and {clip_path}")
@@ -117,7 +124,8 @@ def cmd_analyse(args: argparse.Namespace) -> int:
         pipeline.check_out_dir(out, args.input, force=args.force)
         options = pipeline.AnalysisOptions(camera_roll_deg=args.camera_roll_deg, cutoff_hz=args.cutoff_hz,
                                            mass_kg=mass, height_m=height,
-                                           pose_mirror_average=not args.no_mirror)
+                                           pose_mirror_average=not args.no_mirror,
+                                           pelvis_markers=args.pelvis_markers)
         analysis = pipeline.analyse(args.input, options=options, cache_dir=args.cache_dir,
                                     progress=_show_progress(args))
         written = pipeline.write_outputs(analysis, out)
@@ -251,6 +259,9 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--no-cache", action="store_true", help="neither read nor write the keypoint cache")
     p.add_argument("--max-side-px", type=int, default=1280, help="scale frames down to this longer side (default 1280)")
     p.add_argument("--no-recover", action="store_true", help="skip the enlarged-crop pass for small, far figures")
+    p.add_argument("--pelvis-markers", default=None, choices=sorted(MARKER_HUES_DEG), metavar="COLOUR",
+                   help="also find two stickers of this colour over the pelvis and write them as two more "
+                        "landmarks")
     p.add_argument("--no-mirror", action="store_true",
                    help="skip the mirror-image pass (about twice as fast, trunk lean less accurate)")
     p.set_defaults(func=cmd_pose)
@@ -267,6 +278,10 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--camera-roll-deg", type=float, default=None,
                    help="camera roll (deg, + when vertical lines look turned clockwise); default: measured from the room")
     p.add_argument("--cutoff-hz", type=float, default=6.0, help="low-pass cut-off for the angles (default 6 Hz)")
+    p.add_argument("--pelvis-markers", default=None, choices=sorted(MARKER_HUES_DEG), metavar="COLOUR",
+                   help="colour of two round stickers on the skin over the front (walking toward) or back "
+                        "(walking away) of the pelvis; pelvic drop is then measured from them "
+                        f"({', '.join(sorted(MARKER_HUES_DEG))})")
     p.add_argument("--cache-dir", default=None, help="keypoint cache folder (default: per-user cache)")
     p.add_argument("--no-mirror", action="store_true",
                    help="skip the mirror-image pass of the pose model (about twice as fast, trunk lean less accurate)")

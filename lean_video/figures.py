@@ -94,15 +94,18 @@ def lean_timeseries(frames: pd.DataFrame, strides: pd.DataFrame, events: pd.Data
     return _layout(fig, "Trunk lean over time (+ = shoulders toward the client's right)", "time (s)", "lean (°)")
 
 
-def obliquity_timeseries(frames: pd.DataFrame, strides: pd.DataFrame) -> go.Figure:
-    """Pelvic obliquity against time (positive = client's left hip lower)."""
+def obliquity_timeseries(frames: pd.DataFrame, strides: pd.DataFrame, *, validated: bool = False) -> go.Figure:
+    """Pelvic obliquity against time (positive = client's left hip lower).
+
+    ``validated`` False adds "not validated, see caution" to the title.
+    """
     t, y = _valid_series(frames, "pelvic_obliquity_deg")
     fig = go.Figure()
     _shade_phases(fig, strides)
     fig.add_trace(go.Scatter(x=t, y=y, mode="lines", name="pelvic obliquity", line={"color": "#55606a", "width": 1.6},
                              connectgaps=False, hovertemplate="%{x:.2f} s: %{y:.1f}°<extra></extra>"))
-    return _layout(fig, "Pelvic obliquity over time (+ = client's left hip lower; not validated, see caution)",
-                   "time (s)", "obliquity (°)")
+    note = "" if validated else "; not validated, see caution"
+    return _layout(fig, f"Pelvic obliquity over time (+ = client's left hip lower{note})", "time (s)", "obliquity (°)")
 
 
 def phase_lean(strides: pd.DataFrame, side_stats: Mapping[str, Mapping]) -> go.Figure:

@@ -11,8 +11,9 @@ Conventions (stated once, tested in ``tests/test_gait.py``)
   ``h = (cos r, sin r)``.
 * ``trunk_lean_deg``: angle between true vertical and the line hip midpoint ->
   shoulder midpoint, positive when the shoulders lie toward the client's RIGHT.
-* ``pelvic_obliquity_deg``: angle of the line through both hips against true
-  horizontal, positive when the client's LEFT hip is lower.
+* ``pelvic_obliquity_deg``: angle of the line through both hips (or, when the
+  keypoints hold them, both pelvis markers: :mod:`lean_video.gait_pelvis`)
+  against true horizontal, positive when the client's LEFT hip is lower.
 * Sides are the client's own. Facing the camera (walking toward it) the
   client's right appears on the image left; from behind (walking away) on the
   image right. Which way the client walks is decided from the growth or
@@ -40,6 +41,7 @@ from lean_video.gait_events import (
     refine_event_times, rest_noise, smooth_body_height, walking_direction,
 )
 from lean_video.gait_frontal import bound_by_double_support, drop_short_contacts, foot_centre_events, order_events
+from lean_video.gait_pelvis import line_obliquity_deg, marker_obliquity
 
 log = logging.getLogger(__name__)
 
@@ -98,10 +100,7 @@ def frame_angles(
     hip_l, hip_r = track["left_hip"], track["right_hip"]
     trunk = (track["left_shoulder"] + track["right_shoulder"]) / 2 - (hip_l + hip_r) / 2
     lean = np.degrees(np.arctan2(trunk @ horiz * right_sign, trunk @ up))
-    drop_left = (hip_r - hip_l) @ up
-    width = np.abs((hip_l - hip_r) @ horiz)
-    obliquity = np.degrees(np.arctan2(drop_left, width))
-    return lean, obliquity
+    return lean, line_obliquity_deg(hip_l, hip_r, camera_roll_deg=camera_roll_deg)
 
 
 def _ci95(x: np.ndarray):
@@ -157,17 +156,20 @@ def _phases(intervals, time_s, lean, obliq, *, min_phase_s, max_phase_s,
                 sel = np.abs(time_s - (start + end) / 2) == np.min(np.abs(time_s - (start + end) / 2))
             toward = lean[sel] * (1.0 if stance == "right" else -1.0)
             drop = obliq[sel] * (1.0 if swing == "left" else -1.0)
-            missing = np.mean(~np.isfinite(toward) | ~np.isfinite(drop))
+            missing = np.mean(~np.isfinite(toward))
             if missing > max_missing_fraction:
                 drops.append({"stance_side": stance, "start_s": float(start),
                               "reason": f"{100 * missing:.0f} % of frames without shoulders/hips"})
                 continue
+            # Pelvic markers can be hidden while the trunk is seen: the phase
+            # stays, only its pelvic drop is left out (counted in the summary).
+            drop_ok = np.mean(np.isfinite(drop)) >= 1.0 - max_missing_fraction
             rows.append({
                 "stance_side": stance, "start_s": float(start), "end_s": float(end),
                 "duration_s": float(dur),
                 "lean_mean_deg": float(np.nanmean(toward)), "lean_peak_deg": float(np.nanmax(toward)),
-                "pelvic_drop_mean_deg": float(np.nanmean(drop)),
-                "pelvic_drop_peak_deg": float(np.nanmax(drop)),
+                "pelvic_drop_mean_deg": float(np.nanmean(drop)) if drop_ok else np.nan,
+                "pelvic_drop_peak_deg": float(np.nanmax(drop)) if drop_ok else np.nan,
             })
     cols = ["stance_side", "start_s", "end_s", "duration_s", "lean_mean_deg",
             "lean_peak_deg", "pelvic_drop_mean_deg", "pelvic_drop_peak_deg"]
@@ -177,13 +179,14 @@ def _phases(intervals, time_s, lean, obliq, *, min_phase_s, max_phase_s,
 
 def _side_summary(strides: pd.DataFrame, side: str) -> dict:
     s = strides[strides["stance_side"] == side]
-    out = {"n_phases": int(len(s))}
+    out = {"n_phases": int(len(s)), "n_pelvic_drop_phases": int(s["pelvic_drop_mean_deg"].notna().sum())}
     for key, col in (("lean", "lean_mean_deg"), ("lean_peak", "lean_peak_deg"),
                      ("pelvic_drop", "pelvic_drop_mean_deg"),
                      ("pelvic_drop_peak", "pelvic_drop_peak_deg"),
                      ("single_support", "duration_s")):
         unit = "s" if key == "single_support" else "deg"
-        mean, sd, ci = _ci95(s[col].to_numpy(float))
+        values = s[col].to_numpy(float)
+        mean, sd, ci = _ci95(values[np.isfinite(values)])
         out[f"{key}_mean_{unit}"] = mean
         out[f"{key}_sd_{unit}"] = sd
         out[f"{key}_ci95_{unit}"] = ci
@@ -229,6 +232,12 @@ def summarise_sides(strides: pd.DataFrame, events: pd.DataFrame, warnings: list[
                       "phases; film closer, in even light, at 720p or more" if unclear else "film a longer walk")
             warnings.append(f"only {n} usable {side} single-support phase(s); means are unreliable and SD/CI need "
                             f"at least 2 ({advice})")
+    for side in SIDES:
+        n, n_drop = sides[side]["n_phases"], sides[side]["n_pelvic_drop_phases"]
+        if n_drop < n:
+            warnings.append(f"pelvic drop is missing in {n - n_drop} of {n} {side} single-support phase(s): the "
+                            "pelvis markers were hidden or too small there (film closer, with the hands clear "
+                            "of the markers)")
     cadence = _cadence(events)
     if cadence is None:
         warnings.append("cadence could not be computed: fewer than two consecutive foot strikes")
@@ -335,7 +344,11 @@ def analyse_keypoints(
     -------
     GaitResult
         ``summary`` holds ``direction``, ``camera_roll_deg``,
+        ``pelvic_obliquity_source`` (``"pelvis markers"`` when the keypoints
+        hold the two marker landmarks of :mod:`lean_video.pose_markers`, which
+        then give the obliquity; else ``"hip landmarks"``),
         ``cadence_steps_per_min``, ``sides`` (``left``/``right``: ``n_phases``,
+        ``n_pelvic_drop_phases``,
         ``lean_mean_deg``, ``lean_sd_deg``, ``lean_ci95_deg``,
         ``pelvic_drop_mean_deg``, ``single_support_mean_s`` ...),
         ``asymmetry`` (left minus right), ``quality`` (``dropped_phases``,
@@ -387,6 +400,10 @@ def analyse_keypoints(
         [filtered, ev_track, fc_track], direction)
 
     lean, obliq = frame_angles(filtered, direction=direction, camera_roll_deg=camera_roll_deg)
+    markers = marker_obliquity(keypoints, frame, time_s, direction=direction, camera_roll_deg=camera_roll_deg,
+                               max_gap_s=max_gap_s, cutoff_hz=cutoff_hz)
+    if markers is not None:
+        obliq = markers.obliquity_deg  # the hip points do not follow the pelvis (pipeline.PELVIS_METHOD)
     scale = smooth_body_height(body_height_px(filtered), time_s)
     contact, intervals = {}, {}
     for side in SIDES:
@@ -459,12 +476,13 @@ def analyse_keypoints(
         "frame": frame, "time_s": time_s, "trunk_lean_deg": lean,
         "pelvic_obliquity_deg": obliq, "left_contact": contact["left"],
         "right_contact": contact["right"],
-        "valid": np.isfinite(lean) & np.isfinite(obliq),
+        "valid": np.isfinite(lean),
     })
 
     summary = {
         "direction": direction,
         "camera_roll_deg": float(camera_roll_deg),
+        "pelvic_obliquity_source": "hip landmarks" if markers is None else "pelvis markers",
         **(summarise_sides(strides, events, warnings, dropped=drops) if summarise else {}),
         "quality": {
             "n_frames": int(len(frame)),
@@ -474,6 +492,7 @@ def analyse_keypoints(
             "n_short_contacts_dropped": int(n_short),
             "n_events_reordered": int(n_reordered),
             "n_events_bounded_by_double_support": int(n_bounded),
+            "n_pelvis_marker_frames": 0 if markers is None else int(round(markers.seen_fraction * len(frame))),
             "log_size_slope_per_s": None if not np.isfinite(slope) else float(slope),
             "dropped_phases": drops,
             "n_dropped_phases": len(drops),

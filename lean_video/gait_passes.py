@@ -209,6 +209,7 @@ def analyse_walk(keypoints: pd.DataFrame, *, width: int, height: int, **options)
     summary = {
         "direction": "toward" if by_dir["toward"] >= by_dir["away"] else "away",
         "camera_roll_deg": first["camera_roll_deg"],
+        "pelvic_obliquity_source": first["pelvic_obliquity_source"],
         **summarise_sides(strides, events, warnings,
                           dropped=[d for r in results for d in r.summary["quality"]["dropped_phases"]]),
     }

@@ -35,20 +35,42 @@ PELVIS_METHOD = {
              "follows the trunk rather than the pelvis. Two body-outline methods tried instead were "
              "not reliable either (per-side errors up to 6.6 and 2.6 degrees, the better one largely following "
              "the trunk lean rather than the pelvis). Do not use these pelvic-drop numbers for clinical decisions; judge "
-             "pelvic drop (Trendelenburg sign) by eye. Trunk lean is not affected."),
+             "pelvic drop (Trendelenburg sign) by eye, or put two stickers on the pelvis and analyse with "
+             "--pelvis-markers, which was validated. Trunk lean is not affected."),
+}
+
+#: Pelvic obliquity from two skin markers over the pelvis (``--pelvis-markers``).
+PELVIS_MARKER_METHOD = {
+    "source": ("two coloured skin markers over the anterior (walking toward) or posterior (walking away) "
+               "superior iliac spines, found by colour around the pose model's hips (lean_video.pose_markers)"),
+    "validated": True,
+    "validated_on": ("4 rendered walking clips with pelvic drop of 2-7 degrees and markers 4 cm across "
+                     "(three walking toward, one away; tools/eval_accuracy.py, 2026-12-03)"),
+    "per_side_error_max_deg": 0.57,
+    "per_phase_error_max_deg": 1.56,
+    "note": ("Measured from two coloured stickers over the pelvis. On 4 rendered test walks with a known pelvic "
+             "drop of 2 to 7 degrees, with and without trunk lean, walking toward and away, the per-side mean "
+             "drop was within 0.57 degrees of the truth (each phase within 1.6), the right way wherever the true "
+             "drop was 1.4 degrees or more. "
+             "It is only as good as the markers' placement: both must sit on the same bony points on the two "
+             "sides (anterior superior iliac spines when walking toward the camera, posterior ones when "
+             "walking away), on skin or tight clothing that does not slide. Far from the camera, or when a hand "
+             "covers a marker, the drop of that phase is left out and the report says so. Accuracy on real "
+             "clients is not yet measured."),
 }
 
 #: How trunk lean is measured and how far it was checked (stated in every summary and report).
 LEAN_METHOD = {
     "source": ("pose-model shoulder and hip landmarks, each the average of the model's answers on the frame and on "
                "its mirror image (mid-hip to mid-shoulder line against the roll-corrected vertical)"),
-    "validated_on": "24 rendered walking clips with exact truth (tools/eval_accuracy.py, 2026-12-02)",
-    "per_side_error_median_deg": 0.27,
+    "validated_on": "28 rendered walking clips with exact truth (tools/eval_accuracy.py, 2026-12-03)",
+    "per_side_error_median_deg": 0.29,
     "per_side_error_max_deg": 1.32,
-    "note": ("On 24 rendered test walks with a known lean, the per-side mean lean was within 1.0 degree of "
-             "the truth on 21 (median 0.27; without the mirror-image pass, option --no-mirror, larger). The "
-             "three others are a walker with a large lean (12 degrees at its peak) lit from one side or the "
-             "other, 1.3 degrees off, and a walker filmed from behind, 1.05 degrees off. Light from one side "
+    "note": ("On 28 rendered test walks with a known lean, the per-side mean lean was within 1.0 degree of "
+             "the truth on 24 (median 0.29; without the mirror-image pass, option --no-mirror, larger). The "
+             "four others are a walker with a large lean (12 degrees at its peak) lit from one side or the "
+             "other, 1.3 degrees off, a walker filmed from behind, 1.05 degrees off, and one lit from 60 "
+             "degrees to the side, 1.07 degrees off. Light from one side "
              "shifted the lean of every frame by up to 1.4 degrees, toward or away from the light. These "
              "errors do not shrink with more steps, so the 95% interval shown covers step-to-step variation "
              "only. Treat a per-side difference or a change "
@@ -58,8 +80,8 @@ LEAN_METHOD = {
 
 #: How foot events were checked (stated in every summary and report).
 EVENTS_METHOD = {
-    "validated_on": "24 rendered walking clips with exact truth (tools/eval_accuracy.py, 2026-12-02)",
-    "foot_off_median_error_ms": {"toward": [6, 50], "away": [32, 47]},
+    "validated_on": "28 rendered walking clips with exact truth (tools/eval_accuracy.py, 2026-12-03)",
+    "foot_off_median_error_ms": {"toward": [6, 50], "away": [25, 47]},
     "foot_strike_median_error_ms": {"toward": [16, 44], "away": [22, 39]},
     "single_support_error_s": {"toward": [-0.04, 0.10], "away": [-0.13, 0.05]},
     "single_support_symmetry_index_error_pct": {"toward": 16, "away": 25},
@@ -70,12 +92,15 @@ EVENTS_METHOD = {
              "double support shorter than that is rare in walking), which left strikes 16 ms early to 44 ms late (median "
              "per clip; 34-109 ms without it) and single-support times up to 0.10 s long. Where the client's "
              "double support is long, as in slow or painful walking, strikes can stay later. Walking away "
-             "strikes were 22-39 ms off and foot offs 32-47 ms (median per clip; seen from behind, the pose "
+             "strikes were 22-39 ms off and foot offs 25-47 ms (median per clip; seen from behind, the pose "
              "model finds the heel rising late). On test walks with equal sides, the "
              "left/right difference in single-support time read up to 15 % (24 % walking away): do not read "
              "a difference below about 20 % (30 % walking away) as a real asymmetry; compare single-support "
              "times between sessions filmed the same way."),
 }
+
+#: Smallest share of frames with both pelvis markers seen for the markers to be used.
+MIN_MARKER_FRAME_SHARE = 0.2
 
 #: Version of the scene cache's content; bump when the scene checks change.
 SCENE_CACHE_FORMAT = 1
@@ -100,6 +125,11 @@ class AnalysisOptions:
         flagged in the output.
     pose_max_side_px, pose_workers, pose_mirror_average
         Pose-stage settings, see :class:`lean_video.pose.PoseSettings`.
+    pelvis_markers : str or None
+        Colour of two skin markers over the pelvis (see
+        :mod:`lean_video.pose_markers`); pelvic obliquity is then measured from
+        them. None: no markers, pelvic obliquity from the hip points (not
+        validated, withheld from the report).
     """
 
     camera_roll_deg: float | None = None
@@ -109,6 +139,7 @@ class AnalysisOptions:
     pose_max_side_px: int = 960
     pose_workers: int = 0
     pose_mirror_average: bool = True
+    pelvis_markers: str | None = None
 
 
 @dataclass(frozen=True)
@@ -195,6 +226,8 @@ def analyse(
                                                                   progress=progress)
     width, height = int(clip["width"]), int(clip["height"])
     capture.require_upright(keypoints)
+    if options.pelvis_markers is not None:
+        keypoints = _with_pelvis_markers(keypoints, video, options.pelvis_markers)
 
     camera = _camera_setup(video, keypoints, options, samples, clip, cache_dir)
     roll = camera.roll
@@ -211,7 +244,8 @@ def analyse(
     summary["sides"] = {side: {**summary["sides"].get(side, {}), **_mech_side(per_side.get(side, {}))}
                         for side in ("left", "right")}
     summary["standing"] = posture.standing_posture(result.frames, measured)
-    summary["pelvic_obliquity_method"] = PELVIS_METHOD
+    summary["pelvic_obliquity_method"] = (PELVIS_MARKER_METHOD if summary.get("pelvic_obliquity_source")
+                                          == "pelvis markers" else PELVIS_METHOD)
     summary["trunk_lean_method"] = LEAN_METHOD
     summary["events_method"] = EVENTS_METHOD
     summary["camera_roll_deg"] = roll.roll_deg
@@ -234,9 +268,35 @@ def analyse(
     params = mechanics.HipModelParams.from_body(height_m=options.height_m or mechanics.DEFAULT_HEIGHT_M)
     curve = mechanics.lean_sweep(params=params, mass_kg=options.mass_kg)
     for side in ("left", "right"):
-        summary["sides"][side]["hip_model_band_5_95"] = _band(mechanics, summary["sides"][side], params,
-                                                              options.mass_kg)
+        summary["sides"][side]["hip_model_band_5_95"] = _band(
+            mechanics, summary["sides"][side], params, options.mass_kg,
+            use_drop=bool(summary["pelvic_obliquity_method"].get("validated")))
     return Analysis(result.frames, result.events, strides, _json_ready(summary), keypoints, video, curve)
+
+
+def _with_pelvis_markers(keypoints: pd.DataFrame, video: Path | None, colour: str) -> pd.DataFrame:
+    """The keypoint table with the two pelvis markers found in the clip."""
+    from lean_video import pose_markers
+
+    search = pose_markers.MarkerSearch(colour=colour)
+    if video is None:
+        if keypoints["landmark"].isin(pose_markers.MARKER_NAMES).any():
+            return keypoints  # a hand-over folder that already holds the markers
+        raise LeanVideoError("pelvis markers can only be searched for in a video, and this keypoints folder "
+                             "holds none; analyse the video itself, or leave out --pelvis-markers.")
+    keypoints = keypoints[~keypoints["landmark"].isin(pose_markers.MARKER_NAMES)]
+    rows = pose_markers.track_pelvis_markers(video, keypoints, search=search)
+    seen = int((rows.loc[rows["landmark"] == pose_markers.MARKER_NAMES[0], "visibility"] > 0).sum())
+    n_frames = int(keypoints["frame"].nunique())
+    # A pair seen in only a few frames is more likely clothing of that colour
+    # than two stickers (common practice, no source).
+    if seen < MIN_MARKER_FRAME_SHARE * n_frames:
+        raise LeanVideoError(f"{colour} pelvis markers were not found near the hips often enough (a pair in "
+                             f"{seen} of {n_frames} frames, {MIN_MARKER_FRAME_SHARE:.0%} needed); "
+                             "check the colour given, that both markers are on the "
+                             "front (walking toward) or back (walking away) of the pelvis and not covered by "
+                             "clothing, or leave out --pelvis-markers.")
+    return pd.concat([keypoints, rows], ignore_index=True)
 
 
 def _camera_setup(video, keypoints, options: AnalysisOptions, samples, clip: dict, cache_dir) -> Any:
@@ -283,9 +343,14 @@ def _stabilised(keypoints: pd.DataFrame, motion) -> pd.DataFrame:
     return out
 
 
-def _band(mechanics, side: dict, params, mass_kg) -> dict | None:
-    """Seeded Monte Carlo 5-95 % band of each hip-model output at this side's median lean and drop."""
-    lean, drop = side.get("lean_mean_deg"), side.get("pelvic_drop_mean_deg")
+def _band(mechanics, side: dict, params, mass_kg, *, use_drop: bool) -> dict | None:
+    """Seeded Monte Carlo 5-95 % band of each hip-model output at this side's median lean and drop.
+
+    The drop enters only when it was measured by a validated method
+    (``use_drop``); otherwise the pelvis is taken as level.
+    """
+    lean = side.get("lean_mean_deg")
+    drop = side.get("pelvic_drop_mean_deg") if use_drop else 0.0
     if lean is None or not np.isfinite(lean):
         return None
     mc = mechanics.monte_carlo([float(lean)], params=params, pelvic_drop_deg=float(drop or 0.0), mass_kg=mass_kg)

@@ -47,6 +47,7 @@ import pandas as pd
 
 from lean_video.errors import LeanVideoError
 from lean_video.files import atomic_write_text
+from lean_video.pose_markers import MARKER_NAMES
 from lean_video.pose_model import (
     LANDMARK_NAMES,
     MIRROR_INDEX,
@@ -428,13 +429,19 @@ def estimate_pose(path: str | os.PathLike, **kwargs) -> pd.DataFrame:
     return run_pose(path, **kwargs).keypoints
 
 
-def write_handover(run: PoseRun, out_dir: str | os.PathLike) -> tuple[Path, Path]:
-    """Write ``keypoints.csv`` and ``clip.json``, the documented hand-over pair."""
+def write_handover(run: PoseRun, out_dir: str | os.PathLike, *,
+                   markers: pd.DataFrame | None = None) -> tuple[Path, Path]:
+    """Write ``keypoints.csv`` and ``clip.json``, the documented hand-over pair.
+
+    ``markers`` (rows from :func:`lean_video.pose_markers.track_pelvis_markers`)
+    are appended to the keypoints when given.
+    """
     out = Path(out_dir)
     clip = {k: v for k, v in run.clip.to_dict().items() if k != "path"}
     clip["pose"] = {"settings": asdict(run.settings), **run.stats}
     kp_path, clip_path = out / "keypoints.csv", out / "clip.json"
-    atomic_write_text(kp_path, run.keypoints.to_csv(index=False, float_format="%.4f"))
+    table = run.keypoints if markers is None else pd.concat([run.keypoints, markers], ignore_index=True)
+    atomic_write_text(kp_path, table.to_csv(index=False, float_format="%.4f"))
     atomic_write_text(clip_path, json.dumps(clip, indent=2))
     return kp_path, clip_path
 
@@ -463,10 +470,11 @@ def read_handover(folder: str | os.PathLike) -> tuple[pd.DataFrame, dict]:
     if missing:
         raise LeanVideoError(f"keypoints.csv lacks the column(s) {', '.join(missing)}; the columns must be "
                              f"{', '.join(COLUMNS)}.")
-    unknown = sorted(set(table["landmark"].astype(str)) - set(LANDMARK_NAMES))
+    unknown = sorted(set(table["landmark"].astype(str)) - set(LANDMARK_NAMES) - set(MARKER_NAMES))
     if unknown:
         raise LeanVideoError(f"keypoints.csv has unknown landmark name(s) {', '.join(unknown[:3])}; use the 33 "
-                             "BlazePose names (nose, left_shoulder, ...).")
+                             "BlazePose names (nose, left_shoulder, ...) and, for pelvis markers, "
+                             f"{' and '.join(MARKER_NAMES)}.")
     for key in ("width", "height"):
         if not isinstance(clip.get(key), (int, float)) or clip[key] <= 0:
             raise LeanVideoError(f"clip.json needs a positive '{key}' in pixels; {clip.get(key)!r} was given.")

@@ -280,6 +280,9 @@ def render_session_report(
     # Numbers from a method that failed validation (wrong sign on the test
     # walkers) are not shown to client or clinician; the CSV and JSON keep them.
     pelvis_shown = (summary.get("pelvic_obliquity_method") or {}).get("validated") is not False
+    # With pelvis markers the pictures show the markers' line; the model's hip
+    # points (which tilt with the trunk) are then not joined.
+    hip_line = pelvis_shown and summary.get("pelvic_obliquity_source") != "pelvis markers"
     pics = {}
     for side, p in (pictures or {}).items():
         if side not in SIDES or not isinstance(p, Mapping) or "rgb" not in p or "keypoints" not in p:
@@ -288,11 +291,12 @@ def render_session_report(
         lean = p.get("lean_deg")
         pics[side] = {"uri": annotate_peak_frame(p["rgb"], p["keypoints"], stance_side=side, lean_deg=lean,
                                                  camera_roll_deg=roll, blur_faces=blur_faces,
-                                                 hip_line=pelvis_shown),
+                                                 hip_line=hip_line),
                       "lean": lean, "time_s": p.get("time_s")}
     plots = [("plot-lean", figures.lean_timeseries(frames, strides, events))]
     if pelvis_shown:
-        plots.append(("plot-obliquity", figures.obliquity_timeseries(frames, strides)))
+        plots.append(("plot-obliquity", figures.obliquity_timeseries(
+            frames, strides, validated=bool((summary.get("pelvic_obliquity_method") or {}).get("validated")))))
     plots.append(("plot-phases", figures.phase_lean(strides, summary["sides"])))
     if hip_curve:
         plots.append(("plot-hipforce", figures.hip_force_curve(hip_curve, strides)))
@@ -304,7 +308,7 @@ def render_session_report(
         "csp": CSP, "plotly_js": Markup(plotly.offline.get_plotlyjs()),
         "client": _client_view(client), "date_filmed": date_filmed, "clip_name": clip_name,
         "clinic_name": clinic_name, "generated": generated_utc or _now(), "summary": summary,
-        "sides": sides, "pictures": pics, "blur_faces": blur_faces, "pelvis_shown": pelvis_shown,
+        "sides": sides, "pictures": pics, "blur_faces": blur_faces, "pelvis_shown": pelvis_shown, "hip_line": hip_line,
         "plots": [(pid, _plot_div(fig, pid)) for pid, fig in plots],
         "checks": quality.get("checks", []), "warnings": quality.get("warnings", []),
         "quality_rows": [(k, v) for k, v in _flatten({k: v for k, v in quality.items()

@@ -34,7 +34,10 @@ _BONES = (("left_shoulder", "right_shoulder"), ("left_hip", "right_hip"),
           ("right_hip", "right_knee"), ("right_knee", "right_ankle"),
           ("left_shoulder", "left_elbow"), ("left_elbow", "left_wrist"),
           ("right_shoulder", "right_elbow"), ("right_elbow", "right_wrist"))
-_RGB = {"left": (26, 127, 120), "right": (194, 124, 14), "trunk": (200, 40, 60), "vertical": (255, 255, 255)}
+_RGB = {"left": (26, 127, 120), "right": (194, 124, 14), "trunk": (200, 40, 60), "vertical": (255, 255, 255),
+        "pelvis": (40, 40, 200)}
+#: The two skin markers over the pelvis (lean_video.pose_markers), when they were searched for.
+_MARKERS = ("left_pelvis_marker", "right_pelvis_marker")
 MAX_PICTURE_WIDTH_PX = 480   # the report shows two pictures side by side
 MAX_PICTURE_HEIGHT_PX = 560
 
@@ -157,6 +160,8 @@ def annotate_peak_frame(
         pelvic obliquity from those points is not validated: on the rendered
         test walkers that line tilted opposite to the pelvis, so drawn on the
         picture it would mislead a clinician judging pelvic drop by eye.
+        The line between the two pelvis markers is drawn whenever both are
+        among ``keypoints`` (blue, with a dot on each marker).
     """
     if not (isinstance(rgb, np.ndarray) and rgb.ndim == 3 and rgb.shape[2] == 3 and rgb.dtype == np.uint8):
         raise LeanVideoError("picture rgb must be an (H, W, 3) uint8 array; pass the decoded RGB frame.")
@@ -181,6 +186,12 @@ def annotate_peak_frame(
         colour = _RGB[side] if side else (235, 235, 235)
         w = th + 1 if side == stance_side and "knee" in a + b else th
         cv2.line(img, tuple(np.round(pa).astype(int)), tuple(np.round(pb).astype(int)), colour, w, cv2.LINE_AA)
+    ma, mb = _pt(kp, _MARKERS[0]), _pt(kp, _MARKERS[1])
+    if ma is not None and mb is not None:
+        cv2.line(img, tuple(np.round(ma).astype(int)), tuple(np.round(mb).astype(int)), _RGB["pelvis"], th,
+                 cv2.LINE_AA)
+        for m in (ma, mb):
+            cv2.circle(img, tuple(np.round(m).astype(int)), th + 1, _RGB["pelvis"], -1, cv2.LINE_AA)
     hip, sho = _mid(kp, "left_hip", "right_hip"), _mid(kp, "left_shoulder", "right_shoulder")
     if hip is not None and sho is not None:
         length = float(np.linalg.norm(sho - hip)) * 1.25

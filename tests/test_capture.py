@@ -188,3 +188,13 @@ def test_phase_check_says_when_unclear_tracking_cost_the_phases():
     summary["quality"]["dropped_phases"] = dropped[1:]   # only the clip's end: a longer walk is the fix
     check = _by_name({"checks": capture.capture_checks(keypoints, clip, summary)})["phases_per_side"]
     assert check["suggestion"].startswith("film a longer walk") and "not tracked" not in check["detail"]
+
+
+@pytest.mark.parametrize("n_drop, status", [(8, "pass"), (5, "warn"), (3, "fail")])
+def test_pelvis_marker_check_grades_the_share_of_phases(n_drop, status):
+    sides = {"left": {"n_phases": 5, "n_pelvic_drop_phases": min(n_drop, 5)},
+             "right": {"n_phases": 5, "n_pelvic_drop_phases": max(n_drop - 5, 0)}}
+    check = capture.pelvis_marker_check(sides)
+    assert check["status"] == status and check["value"] == pytest.approx(n_drop / 10)
+    assert f"in {n_drop} of 10 single-support phases" in check["detail"]
+    assert ("keep both stickers in view" in check["suggestion"]) is (status != "pass")

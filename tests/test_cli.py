@@ -237,3 +237,37 @@ def test_ctrl_c_that_breaks_a_worker_pipe_still_exits_130(monkeypatch, capsys, l
     monkeypatch.setattr(cli, "build_parser", patched)
     assert cli.main(["check", "whatever.mp4"]) == 130
     assert "interrupted" in capsys.readouterr().err
+
+
+@pytest.mark.slow
+def test_pelvis_markers_option(tmp_path):
+    clip = DEMO / "truth_markers_drop_lean.mp4"
+    run = cli("analyse", str(clip), "--out", str(tmp_path / "m"), "--pelvis-markers", "green",
+              "--data-dir", str(tmp_path / "db"))
+    assert run.returncode == 0, run.stderr
+    summary = json.loads((tmp_path / "m" / "summary.json").read_text())
+    assert summary["pelvic_obliquity_source"] == "pelvis markers"
+    assert summary["pelvic_obliquity_method"]["validated"] is True
+    assert summary["settings"]["analysis"]["pelvis_markers"] == "green"
+    assert summary["quality"]["n_pelvis_marker_frames"] > 0.9 * summary["quality"]["n_frames"]
+    # the client's right side drops 6 deg at its peak in this render: found the right way
+    assert summary["sides"]["right"]["pelvic_drop_mean_deg"] > 2.0
+    html = (tmp_path / "m" / "report.html").read_text()
+    assert "Pelvic drop (°)" in html and "Blue: line between the pelvis markers." in html
+    # a colour the search does not know is refused by the parser, before any work
+    bad = cli("analyse", str(clip), "--out", str(tmp_path / "b"), "--pelvis-markers", "purple")
+    assert bad.returncode == 2 and "invalid choice" in bad.stderr and not (tmp_path / "b").exists()
+    # markers of another colour than the ones on the client: one line, non-zero exit, nothing written
+    none = cli("-q", "analyse", str(clip), "--out", str(tmp_path / "n"), "--pelvis-markers", "pink")
+    assert none.returncode != 0 and "Traceback" not in none.stderr
+    (line,) = none.stderr.strip().splitlines()
+    assert "pink pelvis markers were not found near the hips often enough" in line
+    # The hand-over folder carries the markers: analysed with them, with or without the option.
+    hand = tmp_path / "kp"
+    pose_run = cli("pose", str(clip), "--out", str(hand), "--no-mirror", "--pelvis-markers", "green")
+    assert pose_run.returncode == 0, pose_run.stderr
+    table = pd.read_csv(hand / "keypoints.csv")
+    assert set(table["landmark"]) >= {"left_pelvis_marker", "right_pelvis_marker"}
+    from_folder = cli("analyse", str(hand), "--out", str(tmp_path / "f"))
+    assert from_folder.returncode == 0, from_folder.stderr
+    assert json.loads((tmp_path / "f" / "summary.json").read_text())["pelvic_obliquity_source"] == "pelvis markers"

@@ -38,3 +38,16 @@ def test_direction_of_the_pass_holding_a_time():
     assert _direction_at(summary, 3.4) == "away"
     assert _direction_at(summary, 9.0) == "toward"
     assert _direction_at(summary, 6.0) == "toward"  # in the turn: the clip's direction
+
+
+def test_pelvis_markers_need_a_video_or_a_folder_holding_them():
+    import pandas as pd
+
+    from lean_video.pipeline import _with_pelvis_markers
+
+    kp = pd.DataFrame([(0, 0.0, "left_hip", 1.0, 2.0, 0.0, 1.0, 1.0)],
+                      columns=["frame", "time_s", "landmark", "x_px", "y_px", "z", "visibility", "presence"])
+    with pytest.raises(LeanVideoError, match="pelvis markers can only be searched for in a video"):
+        _with_pelvis_markers(kp, None, "green")
+    held = pd.concat([kp, kp.assign(landmark="left_pelvis_marker")], ignore_index=True)
+    assert _with_pelvis_markers(held, None, "green") is held

@@ -519,6 +519,47 @@ def test_picture_leaves_out_the_hip_line_while_pelvic_obliquity_is_not_validated
     assert "No line is drawn between the hips" not in html
 
 
+def test_pelvis_markers_in_report_and_picture():
+    # With pelvic obliquity from two pelvis markers (validated), the pictures join the
+    # markers, not the model's hip points; a phase without a drop reads n/a, never nan.
+    pic = make_picture()
+    pic["keypoints"] = {**pic["keypoints"], "left_pelvis_marker": (228, 350), "right_pelvis_marker": (182, 350)}
+    img = _decode(annotate_peak_frame(pic["rgb"], pic["keypoints"], stance_side="left", blur_faces=False,
+                                      hip_line=False))
+    x0, y0, x1, y1 = body_crop(pic["keypoints"], (720, 405))
+    k = img.shape[1] / (x1 - x0)
+    r, c = int(round((350 - y0) * k)), int(round((215 - x0) * k))   # on the marker line, off the trunk line
+    red, green, blue = (int(v) for v in img[r, c])
+    assert blue > 150 and red < 90 and green < 90
+    strides = make_strides()
+    strides.loc[1, ["pelvic_drop_mean_deg", "pelvic_drop_peak_deg"]] = np.nan
+    summary = make_summary(strides)
+    summary["pelvic_obliquity_method"] = {"validated": True, "note": "From two stickers over the pelvis."}
+    summary["pelvic_obliquity_source"] = "pelvis markers"
+    html = render_session_report(summary, make_frames(strides), strides, events=make_events(strides),
+                                 pictures={"left": pic})
+    assert "Blue: line between the pelvis markers." in html
+    assert "No line is drawn between the hips" in html
+    assert "the two skin markers over the pelvis" in html
+    assert 'id="plot-obliquity"' in html and "not validated, see caution" not in html
+    phase = parse(html).tables["phase-table"]
+    col = phase[0].index("Pelvic drop mean (°)")
+    assert phase[2][col] == "n/a"
+    assert not any("nan" in cell.lower() for row_ in phase for cell in row_)
+
+
+def test_standing_pelvic_obliquity_only_from_a_validated_method():
+    strides = make_strides()
+    summary = make_summary(strides)
+    summary["standing"] = {"duration_s": 1.8, "lean_deg": 1.2, "pelvic_obliquity_deg": -2.4}
+    for validated in (False, True):
+        summary["pelvic_obliquity_method"] = {"validated": validated, "note": "note"}
+        html = render_session_report(summary, make_frames(strides), strides, events=make_events(strides))
+        standing = re.search(r'<p id="standing">(.*?)</p>', html, re.S).group(1)
+        assert "+1.2°" in standing
+        assert ("pelvic obliquity -2.4°" in standing) is validated
+
+
 def test_body_crop_keeps_every_keypoint():
     kp = {"nose": (500, 300), "left_ankle": (560, 1500), "right_ankle": (440, 1500)}
     x0, y0, x1, y1 = body_crop(kp, (1920, 1080))

@@ -55,15 +55,17 @@ def phase_match(strides: pd.DataFrame, truth: dict) -> dict:
     """Found vs true single-support phases (complete, away from the clip ends), matched by overlap."""
     duration = truth["duration_s"]
     true_w = [w for w in truth["single_support"] if w["complete"] and w["start_s"] > 0.4 and w["end_s"] < duration - 0.4]
-    matched, lean_err, coverage = 0, [], []
+    matched, lean_err, drop_err, coverage = 0, [], [], []
     for w in true_w:
         same = strides[strides["stance_side"] == w["stance_side"]]
         overlap = (np.minimum(same["end_s"], w["end_s"]) - np.maximum(same["start_s"], w["start_s"])).clip(lower=0)
         if len(same) and overlap.max() > 0.5 * (w["end_s"] - w["start_s"]):
             matched += 1
             coverage.append(float(overlap.max() / (w["end_s"] - w["start_s"])))
-            lean_err.append(float(same.iloc[int(np.argmax(overlap.to_numpy()))]["lean_mean_deg"]
-                                  - w["mean_lean_toward_stance_deg"]))
+            best = same.iloc[int(np.argmax(overlap.to_numpy()))]
+            lean_err.append(float(best["lean_mean_deg"] - w["mean_lean_toward_stance_deg"]))
+            if np.isfinite(best["pelvic_drop_mean_deg"]):
+                drop_err.append(float(best["pelvic_drop_mean_deg"] - w["mean_pelvic_drop_deg"]))
     # A found phase is spurious only if it matches no true window at all: phases
     # the clip edges exclude from the count above are real, not spurious.
     all_w = [w for w in truth["single_support"] if w["end_s"] > 0 and w["start_s"] < duration]
@@ -73,7 +75,12 @@ def phase_match(strides: pd.DataFrame, truth: dict) -> dict:
                and min(ph["end_s"], w["end_s"]) - max(ph["start_s"], w["start_s"]) > 0.5 * (ph["end_s"] - ph["start_s"])]
         spurious += not hit
     return {"true": len(true_w), "matched": matched, "found": int(len(strides)), "spurious": spurious,
-            "phase_lean_err": lean_err, "coverage": coverage}
+            "phase_lean_err": lean_err, "phase_drop_err": drop_err, "coverage": coverage}
+
+
+def marker_colour(truth: dict) -> str | None:
+    """``green`` for clips rendered with pelvis markers (their colour), else None."""
+    return "green" if truth["walk"].get("pelvis_marker_rgb") is not None else None
 
 
 def evaluate(name: str, *, mirror: bool = True) -> dict:
@@ -81,7 +88,8 @@ def evaluate(name: str, *, mirror: bool = True) -> dict:
 
     truth = json.loads((DEMO / f"{name}.truth.json").read_text())
     analysis = pipeline.analyse(DEMO / f"{name}.mp4",
-                                options=pipeline.AnalysisOptions(pose_mirror_average=mirror))
+                                options=pipeline.AnalysisOptions(pose_mirror_average=mirror,
+                                                                 pelvis_markers=marker_colour(truth)))
     s = analysis.summary
     ts = truth_sides(truth)
     ev = event_errors_ms(analysis.events, truth)
@@ -90,7 +98,10 @@ def evaluate(name: str, *, mirror: bool = True) -> dict:
            "roll_true": truth["camera"]["roll_deg"], "roll": s["camera_roll_deg"], "roll_source": s["camera_roll_source"],
            "phases_true": ph["true"], "phases_matched": ph["matched"], "phases_found": ph["found"], "phases_spurious": ph["spurious"],
            "phase_coverage_min": min(ph["coverage"], default=None),
-           "phase_lean_err_max": max(np.abs(ph["phase_lean_err"]), default=None)}
+           "phase_lean_err_max": max(np.abs(ph["phase_lean_err"]), default=None),
+           "pelvis_source": s.get("pelvic_obliquity_source"),
+           "marker_frame_share": s["quality"].get("n_pelvis_marker_frames", 0) / max(s["quality"]["n_frames"], 1),
+           "phase_drop_err_max": max(np.abs(ph["phase_drop_err"]), default=None)}
     for side in SIDES:
         got = s["sides"][side]
         row[f"{side}_lean_err"] = None if got.get("lean_mean_deg") is None or ts[side]["lean"] is None else \

@@ -48,8 +48,14 @@ def _raw():
 
 
 def load_body(height_m: float = 1.70, width_scale: float = 1.0, shirt_rgb=None,
-              trousers_rgb=None) -> Body:
-    """Scaled rest body. ``width_scale`` scales X and Y (heavier > 1 > lighter)."""
+              trousers_rgb=None, pelvis_marker_rgb=None) -> Body:
+    """Scaled rest body. ``width_scale`` scales X and Y (heavier > 1 > lighter).
+
+    ``pelvis_marker_rgb`` adds four round skin markers of that colour, rigid on
+    the pelvis segment: over both anterior superior iliac spines (seen walking
+    toward the camera) and both posterior superior iliac spines (seen walking
+    away), see :func:`_pelvis_markers`.
+    """
     d = _raw()
     v = d["vertices"].astype(np.float64)
     j = d["joints"].astype(np.float64)
@@ -106,8 +112,21 @@ def load_body(height_m: float = 1.70, width_scale: float = 1.0, shirt_rgb=None,
             "ball": np.array([ball[0], ball[1], 0.0]),
             "toe": np.array([ex[en.index(f"toe_mtp.{sfx}")][0], fv[:, 1].min(), 0.0]),
         }
-    return Body(v, d["faces"].astype(np.int64), wi, wv, names, d["segment_parents"], j,
-                colours, foot_points)
+    faces = d["faces"].astype(np.int64)
+    if pelvis_marker_rgb is not None:
+        mv, mf = _pelvis_markers(v, j, names, width_scale)
+        mf = mf + len(v)
+        pel = names.index("pelvis")
+        mwi = np.zeros((len(mv), wi.shape[1]), wi.dtype)
+        mwi[:, 0] = pel
+        mwv = np.zeros((len(mv), wv.shape[1]), wv.dtype)
+        mwv[:, 0] = 1.0
+        mcol = np.empty((len(mv), 4), np.uint8)
+        mcol[:, :3] = np.round(np.asarray(pelvis_marker_rgb) * 255).astype(np.uint8)
+        mcol[:, 3] = 255
+        v, faces = np.vstack([v, mv]), np.vstack([faces, mf])
+        wi, wv, colours = np.vstack([wi, mwi]), np.vstack([wv, mwv]), np.vstack([colours, mcol])
+    return Body(v, faces, wi, wv, names, d["segment_parents"], j, colours, foot_points)
 
 
 def joint_positions(body: Body, rotations: np.ndarray, root_pos: np.ndarray) -> np.ndarray:
@@ -131,3 +150,35 @@ def skin(body: Body, rotations: np.ndarray, joints_world: np.ndarray) -> np.ndar
         w = body.weight_value[:, k:k + 1]
         out += w * (np.einsum("nij,nj->ni", rotations[b], body.vertices) + t[b])
     return out
+
+
+#: Marker sites relative to the hip joint centres of a 1.70 m body (metres):
+#: lateral distance from the midline and height above the hip joint centres.
+#: Anterior superior iliac spines about 24 cm apart, posterior ones about 9 cm
+#: (adult pelvis widths from memory, no source; only their symmetry matters
+#: here, since any two points placed symmetrically on the pelvis lie on a line
+#: parallel to the one through the hip joint centres).
+MARKER_SITES = {"asis": (0.12, 0.075, -1.0), "psis": (0.045, 0.095, 1.0)}
+MARKER_RADIUS_M = 0.02
+MARKER_STANDOFF_M = 0.004
+
+
+def _pelvis_markers(v, j, names, width_scale, segments: int = 16):
+    """Flat discs (vertices, faces) on the skin over the iliac spines, facing out."""
+    k = v[:, 2].max() / 1.70  # body height relative to the sites' 1.70 m body
+    hip_z = 0.5 * (j[names.index("thigh.L"), 2] + j[names.index("thigh.R"), 2])
+    verts, faces = [], []
+    for x_m, dz_m, facing in MARKER_SITES.values():
+        for side in (1.0, -1.0):
+            x, z = side * x_m * k * width_scale, hip_z + dz_m * k
+            near = (np.abs(v[:, 0] - x) < 0.02) & (np.abs(v[:, 2] - z) < 0.02) & (np.sign(v[:, 1]) == facing)
+            y = (v[near, 1].min() if facing < 0 else v[near, 1].max()) + facing * MARKER_STANDOFF_M
+            centre = np.array([x, y, z])
+            ang = np.linspace(0, 2 * np.pi, segments, endpoint=False)
+            ring = centre + MARKER_RADIUS_M * np.c_[np.cos(ang), np.zeros(segments), np.sin(ang)]
+            base = sum(len(a) for a in verts)
+            verts.append(np.vstack([centre, ring]))
+            for i in range(segments):
+                a, b = base + 1 + i, base + 1 + (i + 1) % segments
+                faces += [[base, a, b], [base, b, a]]  # both sides: no culling surprise
+    return np.vstack(verts), np.asarray(faces, np.int64)

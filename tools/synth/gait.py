@@ -93,6 +93,7 @@ class WalkParams:
     toe_off_pitch_deg: float = -40.0
     shirt_rgb: tuple = (0.16, 0.33, 0.62)
     trousers_rgb: tuple = (0.22, 0.27, 0.40)
+    pelvis_marker_rgb: tuple | None = None  # skin markers over the iliac spines (None: none)
 
     @property
     def toward(self) -> bool:
@@ -105,6 +106,10 @@ class WalkParams:
     def to_dict(self) -> dict:
         d = asdict(self)
         d["shirt_rgb"], d["trousers_rgb"] = list(self.shirt_rgb), list(self.trousers_rgb)
+        if self.pelvis_marker_rgb is None:
+            del d["pelvis_marker_rgb"]  # older manifests and truth files stay as they were
+        else:
+            d["pelvis_marker_rgb"] = list(self.pelvis_marker_rgb)
         return d
 
 

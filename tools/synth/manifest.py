@@ -19,6 +19,10 @@ DEMO_SESSIONS = [  # date, right-stance lean, left-stance lean, drops (R stance,
 SHIRTS = [(0.16, 0.33, 0.62), (0.55, 0.15, 0.18), (0.18, 0.45, 0.30), (0.45, 0.40, 0.55)]
 
 
+#: Colour of the rendered skin markers (a lime green, unlike skin, clothing and room).
+MARKER_GREEN = (0.35, 0.95, 0.15)
+
+
 def _entry(name, walk: WalkParams, cam=CameraParams(), room=RoomParams(), video=None, **meta):
     return {"name": name, **meta, "walk": walk.to_dict(), "camera": cam.to_dict(),
             "room": room.to_dict(),
@@ -174,6 +178,37 @@ def default_manifest() -> dict:
                                              trousers_rgb=(0.3, 0.3, 0.35)),
          CameraParams(height_m=1.2, pitch_deg=-5.0), RoomParams(light_azimuth_deg=5, light_elevation_deg=65),
          {"fps": 60}, "walking away slowly, 60 fps, lean 7 deg over the right leg"),
+        # Added when pelvic obliquity from skin markers was built: clients with
+        # round lime-green markers on the skin over the iliac spines, with pelvic
+        # drop of several degrees, with and without lean, toward and away.
+        ("truth_markers_drop_lean", WalkParams(seed=29, speed_m_s=0.8, cadence_steps_min=98, height_m=1.66,
+                                               width_scale=1.1, lean_right_stance_deg=8, lean_left_stance_deg=2,
+                                               pelvic_drop_right_stance_deg=6, pelvic_drop_left_stance_deg=2,
+                                               start_distance_m=7.5, shirt_rgb=(0.55, 0.2, 0.25),
+                                               pelvis_marker_rgb=MARKER_GREEN),
+         CameraParams(height_m=1.15, pitch_deg=-5.0), RoomParams(light_azimuth_deg=30, light_elevation_deg=50), {},
+         "skin markers on the pelvis; lean 8 deg and pelvic drop 6 deg over the right leg"),
+        ("truth_markers_drop_no_lean", WalkParams(seed=30, speed_m_s=0.9, cadence_steps_min=102, height_m=1.76,
+                                                  width_scale=0.98, pelvic_drop_left_stance_deg=5,
+                                                  pelvic_drop_right_stance_deg=3, start_distance_m=8.0,
+                                                  shirt_rgb=(0.85, 0.8, 0.7), trousers_rgb=(0.15, 0.15, 0.17),
+                                                  pelvis_marker_rgb=MARKER_GREEN),
+         CameraParams(height_m=1.0, pitch_deg=-3.0), RoomParams(light_azimuth_deg=-35, light_elevation_deg=45), {},
+         "skin markers on the pelvis; pelvic drop 5 and 3 deg, no lean"),
+        ("truth_markers_contralateral", WalkParams(seed=31, speed_m_s=0.7, cadence_steps_min=94, height_m=1.60,
+                                                   width_scale=1.18, lean_left_stance_deg=6,
+                                                   pelvic_drop_right_stance_deg=7, start_distance_m=7.0,
+                                                   shirt_rgb=(0.2, 0.35, 0.3), trousers_rgb=(0.3, 0.25, 0.2),
+                                                   pelvis_marker_rgb=MARKER_GREEN),
+         CameraParams(height_m=1.3, pitch_deg=-7.0), RoomParams(light_azimuth_deg=60, light_elevation_deg=40), {},
+         "skin markers on the pelvis; lean 6 deg over the left leg, pelvic drop 7 deg over the right"),
+        ("truth_markers_away", WalkParams(seed=32, start_distance_m=2.0, end_distance_m=7.5, speed_m_s=0.85,
+                                          cadence_steps_min=100, height_m=1.72, width_scale=1.04,
+                                          lean_right_stance_deg=6, pelvic_drop_left_stance_deg=5,
+                                          pelvic_drop_right_stance_deg=2, shirt_rgb=(0.3, 0.3, 0.5),
+                                          pelvis_marker_rgb=MARKER_GREEN),
+         CameraParams(height_m=1.1, pitch_deg=-4.0), RoomParams(light_azimuth_deg=-20, light_elevation_deg=55), {},
+         "skin markers on the pelvis, walking away; lean 6 deg over the right leg, pelvic drop 5 deg over the left"),
     ]
     for name, walk, cam, room, video, desc in truth:
         clips.append(_entry(name, walk, cam, room, video, kind="truth", description=desc))

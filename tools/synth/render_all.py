@@ -63,7 +63,8 @@ def simulate(walk: WalkParams, cam: CameraParams, room: RoomParams, fps: float,
     ``sink(frame)`` when given (and not kept), else returned as a list (empty when
     ``render`` is False).
     """
-    body = load_body(walk.height_m, walk.width_scale, walk.shirt_rgb, walk.trousers_rgb)
+    body = load_body(walk.height_m, walk.width_scale, walk.shirt_rgb, walk.trousers_rgb,
+                     walk.pelvis_marker_rgb)
     walker = Walker(walk, body)
     n = int(round(walk.duration_s * fps))
     times = np.arange(n) / fps
