@@ -322,11 +322,19 @@ def render_session_report(
 
 
 # --------------------------------------------------------------------------- history report
-_HIST_METRICS = (("lean_mean_deg", "lean", "°"), ("hip_force_change_pct", "force", "%"))
+_HIST_METRICS = (("lean_mean_deg", "lean", "°"), ("hip_force_change_pct", "force", "%"),
+                 ("pelvic_drop_mean_deg", "drop", "°"))
+
+
+def _drop_validated(session: Mapping) -> bool:
+    """Was this session's pelvic drop measured by a validated method (pelvis markers)?"""
+    method = (session.get("summary") or {}).get("pelvic_obliquity_method") or {}
+    return method.get("validated") is True
 
 
 def history_rows(sessions: Sequence[Mapping]) -> dict[str, list[dict[str, Any]]]:
-    """Per side, one row per session with mean, 95 % CI, change and MDC95 for lean and hip-force change.
+    """Per side, one row per session with mean, 95 % CI, change and MDC95 for lean, hip-force change and
+    pelvic drop (the last only from sessions whose pelvic drop was validated, i.e. filmed with pelvis markers).
 
     ``sessions``: dicts with ``date`` and ``phases`` (per-phase DataFrame),
     oldest first. Means/CIs are computed from the phases (Student t). See the
@@ -341,6 +349,8 @@ def history_rows(sessions: Sequence[Mapping]) -> dict[str, list[dict[str, Any]]]
             row: dict[str, Any] = {"date": s["date"], "side": side}
             for col, key, _ in _HIST_METRICS:
                 vals = sub[col].tolist() if col in sub else []
+                if key == "drop" and not _drop_validated(s):
+                    vals = []  # never trend numbers from a method that failed validation
                 m, sd, lo, hi, n = mean_ci95([float(v) for v in vals if v is not None])
                 row.update({f"{key}_mean": m, f"{key}_sd": sd, f"{key}_lo": lo, f"{key}_hi": hi, f"{key}_n": n})
             rows.append(row)
@@ -383,6 +393,11 @@ def render_history_report(
                                                        "Lean toward the standing leg, per session (95% CI)")),
              ("plot-hist-force", figures.history_metric(flat, "force", "hip force change (%, − = less load)",
                                                         "Estimated hip-force change from lean, per session (95% CI)"))]
+    show_drop = any(r["drop_n"] for r in flat)
+    if show_drop:
+        plots.append(("plot-hist-drop", figures.history_metric(
+            flat, "drop", "pelvic drop (°, + = swing side lower)",
+            "Pelvic drop of the swing side, per session filmed with pelvis markers (95% CI)")))
     prov = [{"date": s["date"], "version": s.get("version") or s["summary"].get("version"),
              "clip_sha256": s.get("clip_sha256") or (s["summary"].get("clip") or {}).get("sha256"),
              "params": _flatten({"settings": s.get("settings") or s["summary"].get("settings") or {},
@@ -391,7 +406,7 @@ def render_history_report(
     ctx = {"title": "Walking assessment: history", "csp": CSP, "plotly_js": Markup(plotly.offline.get_plotlyjs()),
            "client": _client_view(client), "clinic_name": clinic_name, "generated": generated_utc or _now(),
            "rows": rows, "plots": [(pid, _plot_div(fig, pid)) for pid, fig in plots], "provenance": prov,
-           "shared_params": shared,
+           "shared_params": shared, "show_drop": show_drop,
            "n_sessions": len(sessions)}
     return _env().get_template("history.html.j2").render(**ctx)
 

@@ -414,6 +414,30 @@ def test_history_report():
     assert "Weir 2005" in html
 
 
+def test_history_report_trends_pelvic_drop_only_where_validated():
+    sessions = make_sessions()
+    # make_summary has no pelvic_obliquity_method: not validated, so no drop column or plot
+    html = render_history_report({"id": "HP-014"}, sessions)
+    assert "plot-hist-drop" not in html and "Pelvic drop (°)" not in html
+    assert all(r["drop_n"] == 0 and np.isnan(r["drop_mean"]) for r in history_rows(sessions)["left"])
+    # the last two sessions filmed with pelvis markers (validated): only they are trended
+    for s in sessions[1:]:
+        s["summary"] = {**s["summary"], "pelvic_obliquity_method": {"validated": True}}
+    rows = history_rows(sessions)
+    left = rows["left"]
+    assert left[0]["drop_n"] == 0 and left[1]["drop_n"] == left[2]["drop_n"] > 0
+    # known answer: the mean of that session's left phases' pelvic drop
+    st = sessions[2]["phases"]
+    assert left[2]["drop_mean"] == pytest.approx(st.loc[st["stance_side"] == "left", "pelvic_drop_mean_deg"].mean())
+    assert np.isnan(left[2]["drop_change_first"])  # the first session has no drop to compare with
+    html = render_history_report({"id": "HP-014"}, sessions)
+    assert '<div id="plot-hist-drop" class="plotly-graph-div"' in html
+    table = parse(html).tables["history-left"]
+    assert "Pelvic drop (°)" in table[0]
+    assert table[2][10] == "0" and table[2][11].startswith("n/a")
+    assert "only for sessions filmed with pelvis markers" in html
+
+
 def test_history_report_lists_parameters_per_session_when_they_differ():
     sessions = make_sessions()
     sessions[1]["settings"] = {"filter_cutoff_hz": 4.0}

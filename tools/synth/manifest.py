@@ -209,6 +209,25 @@ def default_manifest() -> dict:
                                           pelvis_marker_rgb=MARKER_GREEN),
          CameraParams(height_m=1.1, pitch_deg=-4.0), RoomParams(light_azimuth_deg=-20, light_elevation_deg=55), {},
          "skin markers on the pelvis, walking away; lean 6 deg over the right leg, pelvic drop 5 deg over the left"),
+        # Rendered after the marker search was settled (size, surroundings, spacing)
+        # and measured once as rendered: a heavier client walking away with drop on
+        # both sides, and a far start in a dim room with the camera rolled.
+        ("truth_markers_away_heavy", WalkParams(seed=33, start_distance_m=2.2, end_distance_m=8.0, speed_m_s=0.7,
+                                                cadence_steps_min=92, height_m=1.62, width_scale=1.2,
+                                                lean_left_stance_deg=5, lean_right_stance_deg=2,
+                                                pelvic_drop_left_stance_deg=3, pelvic_drop_right_stance_deg=6,
+                                                shirt_rgb=(0.6, 0.6, 0.62), trousers_rgb=(0.12, 0.12, 0.14),
+                                                pelvis_marker_rgb=MARKER_GREEN),
+         CameraParams(height_m=1.0, pitch_deg=-3.0), RoomParams(light_azimuth_deg=25, light_elevation_deg=60), {},
+         "skin markers on the pelvis, heavier client walking away; pelvic drop 6 and 3 deg"),
+        ("truth_markers_far_dim_roll", WalkParams(seed=34, speed_m_s=1.0, cadence_steps_min=104, height_m=1.82,
+                                                  width_scale=0.95, lean_right_stance_deg=4,
+                                                  pelvic_drop_right_stance_deg=8, pelvic_drop_left_stance_deg=2,
+                                                  start_distance_m=9.0, end_distance_m=2.5,
+                                                  shirt_rgb=(0.3, 0.45, 0.6), trousers_rgb=(0.25, 0.22, 0.2),
+                                                  pelvis_marker_rgb=MARKER_GREEN),
+         CameraParams(height_m=1.2, roll_deg=1.5), RoomParams(light_intensity=1.7, ambient=0.22), {},
+         "skin markers on the pelvis, from 9 m in a dim room, camera rolled 1.5 deg; pelvic drop 8 deg"),
     ]
     for name, walk, cam, room, video, desc in truth:
         clips.append(_entry(name, walk, cam, room, video, kind="truth", description=desc))
