@@ -42,9 +42,10 @@ AWAY_BIAS = ("truth_away_strong_lean_left", "filmed from behind in light from 45
 MARKER_SIDE_LIGHT = ("truth_markers_contralateral", "lit from 60 deg to the side: per-frame lean biased +0.80 deg, "
                      "so the right lean reads 1.07 deg high and the left 0.76 low")
 # Rendered after the marker search was settled, measured once as rendered.
-AWAY_HEAVY = ("truth_markers_away_heavy", "walking away, heavier client in dark trousers: 8 of 10 phases found (one "
-              "phase lost to a foot strike not found, one merged with the next), left/right single-support "
-              "symmetry index off by 35.6 %")
+AWAY_HEAVY = ("truth_markers_away_heavy", "walking away, heavier client in dark trousers: 8 of 10 phases found (the "
+              "pose model's left foot was seen in contact for 0.32 of a 0.79 s stance, and one strike was "
+              "lost), left/right single-support symmetry index off by 35.6 %; from exact keypoints every "
+              "phase is found")
 MARKED = [c["name"] for c in demo_manifest()["clips"] if c["walk"].get("pelvis_marker_rgb") is not None]
 LONG_DS = ("truth_slow_long_double_support", "slow walk with a 17 % double support: foot offs found 49 ms early "
            "(median), as early from exact keypoints (test_gait_truth_clips): the foot-off method, not the pose model")

@@ -479,6 +479,21 @@ def test_foot_strike_away_search_starts_a_quarter_stride_after_foot_off():
     assert _away_strike(knots, 0.78, min_swing_fraction=0.0)[0][1][0] == 0.78
 
 
+def test_foot_strike_away_when_the_heel_comes_down_the_image_to_land():
+    # A low camera and a far walker: the heel's lift outweighs its recession,
+    # so after its mid-swing top (0.60 s, where the pose-based strike 0.55 s
+    # was found) it comes down the image at 30 px/s until it lands at 1.05 s
+    # and rests at row 735. No turning point in the search window: the strike
+    # is where the heel comes within 0.5 px (the floor of the tolerance; exact
+    # points rest still) of its footprint, 1.05 - 0.5/30 s.
+    knots = [(0.0, 760), (0.45, 760), (0.60, 720), (0.75, 726), (1.05, 735), (2.4, 735)]
+    out, prev = _away_strike(knots, 0.55)
+    assert out[1][0] == pytest.approx(1.05 - 0.5 / 30, abs=0.005)
+    assert out[0] == prev
+    # without the quarter-stride rule the mid-swing top is taken for the landing
+    assert _away_strike(knots, 0.55, min_swing_fraction=0.0)[0][1][0] < 0.8
+
+
 def test_contacts_overlapping_after_timing_are_one_contact():
     # A far foot's contact split by a speed spike: after position-based timing
     # the second part begins (6.08 s) before the first ends (6.48 s).

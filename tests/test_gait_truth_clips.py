@@ -97,8 +97,10 @@ def test_event_timing(clip, request):
 # Measured: all but at most one complete phase away from the clip ends; per-side
 # mean lean 0.04-0.8 deg and pelvic drop 0.1-0.6 deg above the truth (phases
 # start late walking toward / end early walking away, see above).
-KNOWN_PHASE_MISSES = {"truth_markers_away_heavy": "walking away, heavier walker (held out): 10 of 12 phases "
-                                                  "from exact keypoints too, so the gait method misses them"}
+# Measured when the heavier walker filmed from behind was rendered (held out): 10 of 12 phases,
+# one strike 419 ms early (the heel came down the image to land, gait_frontal._heel_arrival);
+# now all of them. Clips listed here are strict xfails.
+KNOWN_PHASE_MISSES: dict[str, str] = {}
 
 
 def test_phases_and_angles(clip, request):
