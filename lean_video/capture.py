@@ -398,12 +398,14 @@ def brightness_check(frames: list[np.ndarray]) -> dict:
 QUICK_SAMPLES = SCENE_SAMPLES
 
 
-def quick_check(path: str | Path, *, n_samples: int = QUICK_SAMPLES) -> dict:
+def quick_check(path: str | Path, *, n_samples: int = QUICK_SAMPLES, pelvis_markers: str | None = None) -> dict:
     """Capture check on frames sampled over a clip, before the client leaves.
 
     Returns ``{"clip": {...}, "checks": [...], "not_checked": [...]}``. Steps
     per side and camera shake need every frame and are checked by a full
-    analysis.
+    analysis. ``pelvis_markers`` (a colour of
+    :data:`lean_video.pose_markers.MARKER_HUES_DEG`) adds a check that the two
+    pelvis markers are seen in the sampled frames.
     """
     from lean_video import pose, video
 
@@ -426,5 +428,37 @@ def quick_check(path: str | Path, *, n_samples: int = QUICK_SAMPLES) -> dict:
                                    clip_width=info.width).checks)
     except LeanVideoError as exc:
         checks.append(_check("camera_motion", "fail", "too_large", str(exc), "film again on a tripod"))
+    if pelvis_markers is not None:
+        checks.append(sampled_marker_check(Path(path), keypoints, pelvis_markers))
     return {"clip": clip, "checks": checks, "not_checked": ["phases_per_side"]}
+
+
+def sampled_marker_check(path: Path, keypoints: pd.DataFrame, colour: str) -> dict:
+    """Are both pelvis markers seen in the sampled frames that show the client?
+
+    Searched on the full-size frames (:func:`lean_video.pose_markers.find_markers`).
+    Pass when seen in 40 % of them or more (the rendered clips: 47-100 % of all
+    frames), warn down to the share the analysis needs
+    (:data:`lean_video.pose_markers.MIN_FRAME_SHARE`), fail below.
+    """
+    from lean_video import pose_markers, video
+
+    search = pose_markers.MarkerSearch(colour=colour)
+    times = keypoints.groupby("frame")["time_s"].first().to_dict()
+    frames = video.frames_at(path, times)
+    n_person = n_seen = 0
+    for index, rgb in frames.items():
+        hips = _landmarks_of(keypoints, index, ("left_hip", "right_hip"))[:, :2]
+        shoulders = _landmarks_of(keypoints, index, ("left_shoulder", "right_shoulder"))[:, :2]
+        if not (np.isfinite(hips).all() and np.isfinite(shoulders).all()):
+            continue
+        n_person += 1
+        trunk = float(np.linalg.norm(shoulders.mean(axis=0) - hips.mean(axis=0)))
+        n_seen += bool(np.isfinite(pose_markers.find_markers(rgb, hips, trunk, search=search)).all())
+    share = n_seen / n_person if n_person else 0.0
+    status = "pass" if share >= 0.4 else ("warn" if share >= pose_markers.MIN_FRAME_SHARE else "fail")
+    return _check("pelvis_markers", status, round(share, 3),
+                  f"both {colour} pelvis markers seen in {n_seen} of {n_person} sampled frames showing the client",
+                  "check the colour given, keep both stickers in view (hands and clothing clear of them), film "
+                  "closer, and use stickers at least 3 cm across in a colour unlike the client's clothes")
 

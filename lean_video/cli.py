@@ -224,7 +224,7 @@ def cmd_check(args: argparse.Namespace) -> int:
 
     from lean_video import capture
 
-    result = capture.quick_check(args.clip)
+    result = capture.quick_check(args.clip, pelvis_markers=args.pelvis_markers)
     if args.json:
         print(json.dumps(result, indent=2))
     else:
@@ -293,6 +293,8 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("check", help="quick capture check of a clip (a few seconds), before the client leaves")
     p.add_argument("clip", help="video file")
     p.add_argument("--json", action="store_true", help="print the checks as JSON")
+    p.add_argument("--pelvis-markers", default=None, choices=sorted(MARKER_HUES_DEG), metavar="COLOUR",
+                   help="also check that two stickers of this colour over the pelvis are seen")
     p.set_defaults(func=cmd_check)
 
     p = sub.add_parser("history", help="trend report of one client across sessions (history.html)")

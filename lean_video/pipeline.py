@@ -101,9 +101,6 @@ EVENTS_METHOD = {
              "times between sessions filmed the same way."),
 }
 
-#: Smallest share of frames with both pelvis markers seen for the markers to be used.
-MIN_MARKER_FRAME_SHARE = 0.2
-
 #: Version of the scene cache's content; bump when the scene checks change.
 SCENE_CACHE_FORMAT = 1
 
@@ -290,11 +287,9 @@ def _with_pelvis_markers(keypoints: pd.DataFrame, video: Path | None, colour: st
     rows = pose_markers.track_pelvis_markers(video, keypoints, search=search)
     seen = int((rows.loc[rows["landmark"] == pose_markers.MARKER_NAMES[0], "visibility"] > 0).sum())
     n_frames = int(keypoints["frame"].nunique())
-    # A pair seen in only a few frames is more likely clothing of that colour
-    # than two stickers (common practice, no source).
-    if seen < MIN_MARKER_FRAME_SHARE * n_frames:
+    if seen < pose_markers.MIN_FRAME_SHARE * n_frames:
         raise LeanVideoError(f"{colour} pelvis markers were not found near the hips often enough (a pair in "
-                             f"{seen} of {n_frames} frames, {MIN_MARKER_FRAME_SHARE:.0%} needed); "
+                             f"{seen} of {n_frames} frames, {pose_markers.MIN_FRAME_SHARE:.0%} needed); "
                              "check the colour given, that both markers are on the "
                              "front (walking toward) or back (walking away) of the pelvis and not covered by "
                              "clothing, or leave out --pelvis-markers.")

@@ -58,6 +58,12 @@ MARKER_HUES_DEG = {"green": 110.0, "yellow": 55.0, "pink": 325.0, "blue": 210.0}
 MAX_SPACING_PER_HIP_SPACING = 1.8
 
 
+#: Smallest share of frames (with the client found) showing both markers for
+#: the markers to be used: a pair seen in only a few frames is more likely
+#: clothing of that colour than two stickers (common practice, no source).
+MIN_FRAME_SHARE = 0.2
+
+
 @dataclass(frozen=True)
 class MarkerSearch:
     """Settings of the marker search (all stored as provenance).

@@ -270,12 +270,11 @@ FALSE_PAIR_CASES = [("HP-014_2026-09-15", "pink"), ("truth_markers_drop_no_lean"
 @pytest.mark.parametrize("name, colour", FALSE_PAIR_CASES)
 def test_no_false_marker_pairs(name, colour):
     from lean_video import pose
-    from lean_video.pipeline import MIN_MARKER_FRAME_SHARE
-    from lean_video.pose_markers import MarkerSearch, track_pelvis_markers
+    from lean_video.pose_markers import MIN_FRAME_SHARE, MarkerSearch, track_pelvis_markers
     from tests.conftest import DEMO
 
     keypoints = pose.run_pose(DEMO / f"{name}.mp4").keypoints
     rows = track_pelvis_markers(DEMO / f"{name}.mp4", keypoints, search=MarkerSearch(colour=colour))
     seen = int((rows.loc[rows["landmark"] == "left_pelvis_marker", "visibility"] > 0).sum())
     # the analysis refuses markers seen in fewer than 20 % of frames
-    assert seen < MIN_MARKER_FRAME_SHARE * keypoints["frame"].nunique()
+    assert seen < MIN_FRAME_SHARE * keypoints["frame"].nunique()

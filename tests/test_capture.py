@@ -198,3 +198,13 @@ def test_pelvis_marker_check_grades_the_share_of_phases(n_drop, status):
     assert check["status"] == status and check["value"] == pytest.approx(n_drop / 10)
     assert f"in {n_drop} of 10 single-support phases" in check["detail"]
     assert ("keep both stickers in view" in check["suggestion"]) is (status != "pass")
+
+
+def test_quick_check_sees_the_pelvis_markers():
+    clip = DEMO / "truth_markers_drop_lean.mp4"
+    check = _by_name(capture.quick_check(clip, pelvis_markers="green"))["pelvis_markers"]
+    # the markers are in every sampled frame of this rendered walk toward the camera
+    assert check["status"] == "pass" and check["value"] == 1.0
+    wrong = _by_name(capture.quick_check(clip, pelvis_markers="pink"))["pelvis_markers"]
+    assert wrong["status"] == "fail" and "check the colour given" in wrong["suggestion"]
+    assert "pelvis_markers" not in _by_name(capture.quick_check(clip))
