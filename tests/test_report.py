@@ -286,6 +286,7 @@ def test_unvalidated_pelvic_drop_is_withheld_from_the_report():
     summary["pelvic_obliquity_method"] = {"validated": False, "note": "Moved the wrong way on test walkers."}
     html = render_session_report(summary, make_frames(strides), strides, events=make_events(strides))
     tables = parse(html).tables
+    assert "Your pelvis:" not in html
     assert "Pelvic drop (°)" not in tables["side-table"][0]
     assert not any("Pelvic" in h for h in tables["phase-table"][0])
     assert 'id="plot-obliquity"' not in html
@@ -564,6 +565,11 @@ def test_pelvis_markers_in_report_and_picture():
                                  pictures={"left": pic})
     assert "Blue: line between the pelvis markers." in html
     assert "No line is drawn between the hips" in html
+    # the client's part says how far the pelvis dropped, per stance side, from the summary
+    card = html[html.index('id="client-left"'):html.index('id="client-right"')]
+    drop = summary["sides"]["left"]["pelvic_drop_mean_deg"]
+    word = f"dropped by about <b>{drop:.1f}°</b>" if drop >= 0 else f"stayed about <b>{abs(drop):.1f}°</b> higher"
+    assert word in card and "measured from the two markers on your pelvis" in card
     assert "the two skin markers over the pelvis" in html
     assert 'id="plot-obliquity"' in html and "not validated, see caution" not in html
     phase = parse(html).tables["phase-table"]
