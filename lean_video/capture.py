@@ -20,6 +20,7 @@ import numpy as np
 import pandas as pd
 
 from lean_video.errors import LeanVideoError
+from lean_video.pose_markers import MIN_FRAME_SHARE, MarkerSearch, find_markers_near_body
 
 log = logging.getLogger(__name__)
 
@@ -48,6 +49,14 @@ ROLL_LIMITS = (2.0, 5.0)
 MIN_ROLL_CONFIDENCE = 0.5
 #: Mean picture brightness (0-255) below which the clip is too dark (engineering choice).
 DARK_LIMITS = (70.0, 40.0)
+#: Share of single-support phases given a pelvic drop by the pelvis markers (common practice, no source).
+MARKER_PHASE_LIMITS = (0.8, 0.5)
+#: Share of sampled frames showing the client in which both pelvis markers are seen: the
+#: rendered clips gave 47-100 % of all frames; below the share the analysis needs, fail.
+MARKER_SAMPLE_LIMITS = (0.4, MIN_FRAME_SHARE)
+#: What to do when the pelvis markers are not seen well enough.
+MARKER_SUGGESTION = ("keep both stickers in view (hands and clothing clear of them), film closer, and use stickers "
+                     "at least 3 cm across in a colour unlike the client's clothes")
 
 
 @dataclass(frozen=True)
@@ -322,18 +331,13 @@ def capture_checks(keypoints: pd.DataFrame, clip: dict, summary: dict, *,
 
 
 def pelvis_marker_check(sides: dict) -> dict:
-    """Share of single-support phases whose pelvic drop the pelvis markers gave.
-
-    Pass at 80 % or more, warn from 50 %, fail below (common practice, no source).
-    """
+    """Share of single-support phases whose pelvic drop the pelvis markers gave (:data:`MARKER_PHASE_LIMITS`)."""
     n = sum(int((sides.get(s) or {}).get("n_phases") or 0) for s in ("left", "right"))
     n_drop = sum(int((sides.get(s) or {}).get("n_pelvic_drop_phases") or 0) for s in ("left", "right"))
     share = n_drop / n if n else 0.0
-    status = "pass" if share >= 0.8 else ("warn" if share >= 0.5 else "fail")
-    return _check("pelvis_markers", status, round(share, 3),
+    return _check("pelvis_markers", _grade(share, MARKER_PHASE_LIMITS), round(share, 3),
                   f"pelvic drop measured in {n_drop} of {n} single-support phases from the pelvis markers",
-                  "keep both stickers in view (hands and clothing clear of them), film closer, and use stickers "
-                  "at least 3 cm across in a colour unlike the client's clothes")
+                  MARKER_SUGGESTION)
 
 
 def direction_check(keypoints: pd.DataFrame, direction: str | None, passes: list | None = None) -> dict:
@@ -436,29 +440,22 @@ def quick_check(path: str | Path, *, n_samples: int = QUICK_SAMPLES, pelvis_mark
 def sampled_marker_check(path: Path, keypoints: pd.DataFrame, colour: str) -> dict:
     """Are both pelvis markers seen in the sampled frames that show the client?
 
-    Searched on the full-size frames (:func:`lean_video.pose_markers.find_markers`).
-    Pass when seen in 40 % of them or more (the rendered clips: 47-100 % of all
-    frames), warn down to the share the analysis needs
-    (:data:`lean_video.pose_markers.MIN_FRAME_SHARE`), fail below.
+    Searched on the full-size frames; graded by :data:`MARKER_SAMPLE_LIMITS`.
     """
-    from lean_video import pose_markers, video
+    from lean_video import video
 
-    search = pose_markers.MarkerSearch(colour=colour)
+    search = MarkerSearch(colour=colour)
     times = keypoints.groupby("frame")["time_s"].first().to_dict()
-    frames = video.frames_at(path, times)
+    names = ("left_hip", "right_hip", "left_shoulder", "right_shoulder")
     n_person = n_seen = 0
-    for index, rgb in frames.items():
-        hips = _landmarks_of(keypoints, index, ("left_hip", "right_hip"))[:, :2]
-        shoulders = _landmarks_of(keypoints, index, ("left_shoulder", "right_shoulder"))[:, :2]
-        if not (np.isfinite(hips).all() and np.isfinite(shoulders).all()):
+    for index, rgb in video.frames_at(path, times).items():
+        points = dict(zip(names, _landmarks_of(keypoints, index, names)[:, :2]))
+        if not all(np.isfinite(p).all() for p in points.values()):
             continue
         n_person += 1
-        trunk = float(np.linalg.norm(shoulders.mean(axis=0) - hips.mean(axis=0)))
-        n_seen += bool(np.isfinite(pose_markers.find_markers(rgb, hips, trunk, search=search)).all())
+        n_seen += bool(np.isfinite(find_markers_near_body(rgb, points, search=search)).all())
     share = n_seen / n_person if n_person else 0.0
-    status = "pass" if share >= 0.4 else ("warn" if share >= pose_markers.MIN_FRAME_SHARE else "fail")
-    return _check("pelvis_markers", status, round(share, 3),
+    return _check("pelvis_markers", _grade(share, MARKER_SAMPLE_LIMITS), round(share, 3),
                   f"both {colour} pelvis markers seen in {n_seen} of {n_person} sampled frames showing the client",
-                  "check the colour given, keep both stickers in view (hands and clothing clear of them), film "
-                  "closer, and use stickers at least 3 cm across in a colour unlike the client's clothes")
+                  "check the colour given, " + MARKER_SUGGESTION)
 

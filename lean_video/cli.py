@@ -241,6 +241,12 @@ def _add_store_args(p: argparse.ArgumentParser) -> None:
                    help="folder of the client database (default: $LEAN_VIDEO_DATA_DIR or the per-user data folder)")
 
 
+def _add_marker_arg(p: argparse.ArgumentParser, help_text: str) -> None:
+    colours = sorted(MARKER_HUES_DEG)
+    p.add_argument("--pelvis-markers", default=None, choices=colours, metavar="COLOUR",
+                   help=f"{help_text} ({', '.join(colours)})")
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="lean-video",
@@ -259,9 +265,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--no-cache", action="store_true", help="neither read nor write the keypoint cache")
     p.add_argument("--max-side-px", type=int, default=1280, help="scale frames down to this longer side (default 1280)")
     p.add_argument("--no-recover", action="store_true", help="skip the enlarged-crop pass for small, far figures")
-    p.add_argument("--pelvis-markers", default=None, choices=sorted(MARKER_HUES_DEG), metavar="COLOUR",
-                   help="also find two stickers of this colour over the pelvis and write them as two more "
-                        "landmarks")
+    _add_marker_arg(p, "also find two stickers of this colour over the pelvis and write them as two more landmarks")
     p.add_argument("--no-mirror", action="store_true",
                    help="skip the mirror-image pass (about twice as fast, trunk lean less accurate)")
     p.set_defaults(func=cmd_pose)
@@ -278,10 +282,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--camera-roll-deg", type=float, default=None,
                    help="camera roll (deg, + when vertical lines look turned clockwise); default: measured from the room")
     p.add_argument("--cutoff-hz", type=float, default=6.0, help="low-pass cut-off for the angles (default 6 Hz)")
-    p.add_argument("--pelvis-markers", default=None, choices=sorted(MARKER_HUES_DEG), metavar="COLOUR",
-                   help="colour of two round stickers on the skin over the front (walking toward) or back "
-                        "(walking away) of the pelvis; pelvic drop is then measured from them "
-                        f"({', '.join(sorted(MARKER_HUES_DEG))})")
+    _add_marker_arg(p, "colour of two round stickers on the skin over the front (walking toward) or back "
+                       "(walking away) of the pelvis; pelvic drop is then measured from them")
     p.add_argument("--cache-dir", default=None, help="keypoint cache folder (default: per-user cache)")
     p.add_argument("--no-mirror", action="store_true",
                    help="skip the mirror-image pass of the pose model (about twice as fast, trunk lean less accurate)")
@@ -293,8 +295,7 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("check", help="quick capture check of a clip (a few seconds), before the client leaves")
     p.add_argument("clip", help="video file")
     p.add_argument("--json", action="store_true", help="print the checks as JSON")
-    p.add_argument("--pelvis-markers", default=None, choices=sorted(MARKER_HUES_DEG), metavar="COLOUR",
-                   help="also check that two stickers of this colour over the pelvis are seen")
+    _add_marker_arg(p, "also check that two stickers of this colour over the pelvis are seen")
     p.set_defaults(func=cmd_check)
 
     p = sub.add_parser("history", help="trend report of one client across sessions (history.html)")

@@ -221,6 +221,17 @@ def find_markers(rgb: np.ndarray, hips_px: np.ndarray, trunk_px: float, *,
     return out
 
 
+def find_markers_near_body(rgb: np.ndarray, points: dict, *, search: MarkerSearch = MarkerSearch()) -> np.ndarray:
+    """:func:`find_markers` with its window set from the pose model's points.
+
+    ``points`` maps ``left_hip``, ``right_hip``, ``left_shoulder`` and
+    ``right_shoulder`` to image positions (x, y).
+    """
+    hips = np.stack([points["left_hip"], points["right_hip"]])
+    trunk = float(np.linalg.norm((points["left_shoulder"] + points["right_shoulder"]) / 2 - hips.mean(axis=0)))
+    return find_markers(rgb, hips, trunk, search=search)
+
+
 def track_pelvis_markers(
     path: str | os.PathLike, keypoints: "pd.DataFrame", *, search: MarkerSearch = MarkerSearch(),
 ) -> "pd.DataFrame":
@@ -260,14 +271,14 @@ def track_pelvis_markers(
             xy = {k: v.loc[index, ["x_px", "y_px"]].to_numpy(float) for k, v in pts.items()}
         except KeyError:
             continue
-        hips = np.stack([xy["left_hip"], xy["right_hip"]])
-        trunk = float(np.linalg.norm((xy["left_shoulder"] + xy["right_shoulder"]) / 2 - hips.mean(axis=0)))
-        pair = find_markers(rgb, hips, trunk, search=search)
+        pair = find_markers_near_body(rgb, xy, search=search)
         if np.isfinite(pair).all():
             # label each marker by the model's nearer hip point (the gait stage re-orders by position)
             near_left = np.argmin(np.linalg.norm(pair - xy["left_hip"], axis=1))
             found[index] = (pair[near_left], pair[1 - near_left])
-            shape[index] = (np.linalg.norm(pair[1] - pair[0]) / trunk, *((pair.mean(axis=0) - hips.mean(axis=0)) / trunk))
+            hip_mid = (xy["left_hip"] + xy["right_hip"]) / 2
+            trunk = float(np.linalg.norm((xy["left_shoulder"] + xy["right_shoulder"]) / 2 - hip_mid))
+            shape[index] = (np.linalg.norm(pair[1] - pair[0]) / trunk, *((pair.mean(axis=0) - hip_mid) / trunk))
     found = _consistent(found, shape)
     rows = []
     for f, t in want.items():
