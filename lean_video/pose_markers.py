@@ -68,6 +68,9 @@ MIN_FRAME_SHARE = 0.2
 class MarkerSearch:
     """Settings of the marker search (all stored as provenance).
 
+    The defaults are engineering choices checked on the rendered marker clips
+    (common practice, no source), except where measured numbers are given.
+
     Attributes
     ----------
     colour : str
@@ -178,7 +181,8 @@ def find_markers(rgb: np.ndarray, hips_px: np.ndarray, trunk_px: float, *,
     h, w = rgb.shape[:2]
     xm, ym = hips_px.mean(axis=0)
     # The iliac spines lie 0.1-0.2 trunk lengths above the hip joints and up to
-    # 0.3 to each side; the window is wider for hip points that are off.
+    # 0.3 to each side; the window is wider for hip points that are off
+    # (proportions from memory; common practice, no source).
     x0, x1 = int(max(0, xm - 0.75 * trunk_px)), int(min(w, xm + 0.75 * trunk_px + 1))
     y0, y1 = int(max(0, ym - 0.6 * trunk_px)), int(min(h, ym + 0.35 * trunk_px + 1))
     if x1 - x0 < 3 or y1 - y0 < 3:
@@ -188,7 +192,8 @@ def find_markers(rgb: np.ndarray, hips_px: np.ndarray, trunk_px: float, *,
     n, labels, stats, cents = cv2.connectedComponentsWithStats(mask, connectivity=8)
     loose = marker_mask(crop, search=search, loose=True)
     # A sticker 4 cm across is about 0.08 trunk lengths: blobs over twice that
-    # size, or long and thin, are clothing or background of the same colour.
+    # size, or long and thin, are clothing or background of the same colour
+    # (common practice, no source).
     max_area = max(4.0 * search.min_area_px, 0.02 * trunk_px ** 2)
     blobs = []
     for i in range(1, n):
