@@ -44,11 +44,11 @@ PELVIS_MARKER_METHOD = {
     "source": ("two coloured skin markers over the anterior (walking toward) or posterior (walking away) "
                "superior iliac spines, found by colour around the pose model's hips (lean_video.pose_markers)"),
     "validated": True,
-    "validated_on": ("6 rendered walking clips with pelvic drop of 2-8 degrees and markers 4 cm across "
-                     "(four walking toward, two away; tools/eval_accuracy.py, 2026-12-03)"),
+    "validated_on": ("7 rendered walking clips with pelvic drop of 2-8 degrees and markers 4 cm across "
+                     "(five walking toward, two away; tools/eval_accuracy.py, 2026-12-03)"),
     "per_side_error_max_deg": 1.32,
     "per_phase_error_max_deg": 1.56,
-    "note": ("Measured from two coloured stickers over the pelvis. On 6 rendered test walks with a known pelvic "
+    "note": ("Measured from two coloured stickers over the pelvis. On 7 rendered test walks with a known pelvic "
              "drop of 2 to 8 degrees, with and without trunk lean, the per-side mean drop was within 0.57 "
              "degrees of the truth walking toward the camera and within 1.32 walking away (each phase within "
              "1.6), the right way wherever the true drop was 1.3 degrees or more. Seen from behind, the "
@@ -65,11 +65,11 @@ PELVIS_MARKER_METHOD = {
 LEAN_METHOD = {
     "source": ("pose-model shoulder and hip landmarks, each the average of the model's answers on the frame and on "
                "its mirror image (mid-hip to mid-shoulder line against the roll-corrected vertical)"),
-    "validated_on": "30 rendered walking clips with exact truth (tools/eval_accuracy.py, 2026-12-03)",
-    "per_side_error_median_deg": 0.30,
+    "validated_on": "33 rendered walking clips with exact truth (tools/eval_accuracy.py, 2026-12-03)",
+    "per_side_error_median_deg": 0.29,
     "per_side_error_max_deg": 1.32,
-    "note": ("On 30 rendered test walks with a known lean, the per-side mean lean was within 1.0 degree of "
-             "the truth on 26 (median 0.30; without the mirror-image pass, option --no-mirror, larger). The "
+    "note": ("On 33 rendered test walks with a known lean, the per-side mean lean was within 1.0 degree of "
+             "the truth on 29 (median 0.29; without the mirror-image pass, option --no-mirror, larger). The "
              "four others are a walker with a large lean (12 degrees at its peak) lit from one side or the "
              "other, 1.3 degrees off, a walker filmed from behind, 1.05 degrees off, and one lit from 60 "
              "degrees to the side, 1.07 degrees off. Light from one side "
@@ -82,7 +82,7 @@ LEAN_METHOD = {
 
 #: How foot events were checked (stated in every summary and report).
 EVENTS_METHOD = {
-    "validated_on": "30 rendered walking clips with exact truth (tools/eval_accuracy.py, 2026-12-03)",
+    "validated_on": "33 rendered walking clips with exact truth (tools/eval_accuracy.py, 2026-12-03)",
     "foot_off_median_error_ms": {"toward": [6, 50], "away": [25, 47]},
     "foot_strike_median_error_ms": {"toward": [12, 44], "away": [22, 39]},
     "single_support_error_s": {"toward": [-0.04, 0.10], "away": [-0.13, 0.08]},

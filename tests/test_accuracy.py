@@ -42,6 +42,9 @@ AWAY_BIAS = ("truth_away_strong_lean_left", "filmed from behind in light from 45
 MARKER_SIDE_LIGHT = ("truth_markers_contralateral", "lit from 60 deg to the side: per-frame lean biased +0.80 deg, "
                      "so the right lean reads 1.07 deg high and the left 0.76 low")
 # Rendered after the marker search was settled, measured once as rendered.
+# (Three more clients, truth_heldout_*, were rendered on 2026-12-03 after every
+# method here was settled and measured once: they meet every target tested here
+# except pelvic drop without markers, so they carry no mark.)
 AWAY_HEAVY = ("truth_markers_away_heavy", "walking away, heavier client in dark trousers: 8 of 10 phases found (the "
               "pose model's left foot was seen in contact for 0.32 of a 0.79 s stance, and one strike was "
               "lost), left/right single-support symmetry index off by 35.6 %; from exact keypoints every "
@@ -74,14 +77,14 @@ def row(name: str) -> dict:
 def test_direction_roll_and_lean(name):
     r = row(name)
     assert r["direction"] == r["direction_true"]
-    # Camera roll from the room's verticals, within 0.5 deg (issue target; measured <= 0.08).
+    # Camera roll from the room's verticals, within 0.5 deg (issue target; measured <= 0.24).
     assert r["roll"] == pytest.approx(r["roll_true"], abs=0.5)
     for side in ("left", "right"):
         err = r[f"{side}_lean_err"]
         if r[f"{side}_lean_true"] is None or err is None:
             continue
-        # Issue target: within 1.0 deg. Measured today: <= 0.94 deg on 24 of 28 clips, median
-        # 0.29; 1.28 and 1.32 on the strong-lean walker lit from either side, 1.05 on the
+        # Issue target: within 1.0 deg. Measured today: <= 0.94 deg on 29 of 33 clips, median
+        # 0.29 (0.67 at most on the three held out last); 1.28 and 1.32 on the strong-lean walker lit from either side, 1.05 on the
         # walker filmed from behind with a 9 deg lean, 1.07 on a marker client lit from 60 deg
         # (xfails above).
         # Before late strikes were bounded by a minimum double support (gait_frontal.
@@ -89,7 +92,7 @@ def test_direction_roll_and_lean(name):
         # the mirror-image pass of the pose model (first 11 clips) 1.28 and 0.48.
         assert abs(err) <= 1.0, (side, err)
     if r["phase_lean_err_max"] is not None:
-        # Each matched phase's mean lean within 2.0 deg (issue target; measured <= 1.74 on 27
+        # Each matched phase's mean lean within 2.0 deg (issue target; measured <= 1.74 on 32
         # clips, 2.72 on the strong-lean walker lit from the other side).
         assert r["phase_lean_err_max"] <= 2.0
 
@@ -98,7 +101,7 @@ def test_direction_roll_and_lean(name):
 def test_phases_found(name):
     r = row(name)
     # Issue target, met: every steady single-support phase found, none
-    # spurious: 245 of 247 on 30 clips (228 of 228 on the first 28, 191 of 191 on the first 24 (188 before a walking-away strike found
+    # spurious: 268 of 270 on 33 clips (23 of 23 on the three held out last; 228 of 228 on the first 28, 191 of 191 on the first 24 (188 before a walking-away strike found
     # within a quarter stride of the foot's own foot off was taken for a
     # mid-swing pause, gait_frontal.foot_centre_events); 78 of 88 on the first 11 before double
     # support was enforced and the pose model's mirror-image pass added; 132 of
@@ -113,7 +116,7 @@ def test_phases_found(name):
 def test_per_frame_lean_bias(name):
     # Mean per-frame trunk lean minus truth over the whole clip (the truth's
     # image-plane lean, so camera roll and walking direction are included).
-    # Measured: -0.66 to +0.56 deg on 25 clips, +1.36 in side light, -0.85 on a walker
+    # Measured: -0.66 to +0.56 deg on 28 clips, +1.36 in side light, -0.85 on a walker
     # filmed from behind in light from 45 deg, +0.80 on a marker client lit from 60 deg
     # (first 11: -0.43 to +0.69 without the mirror-image pass of the pose model); a plain
     # pipeline was biased by up to +1.3. Bound 0.8 until that last clip, rendered after it
@@ -126,7 +129,7 @@ def test_per_frame_lean_bias(name):
 def test_found_phases_cover_the_true_ones(name):
     r = row(name)
     # Each matched phase overlaps at least this share of its true window.
-    # Measured: 0.80-1.00 walking toward, 0.58-0.91 walking away (a plain
+    # Measured: 0.80-1.00 walking toward, 0.57-0.91 walking away (a plain
     # speed-threshold detector covered only 55-65 % walking toward).
     floor = 0.5 if r["direction_true"] == "away" else 0.7
     assert r["phase_coverage_min"] is not None and r["phase_coverage_min"] >= floor
@@ -148,7 +151,7 @@ def test_walking_away_assigns_sides(name):
 @pytest.mark.parametrize("name", AWAY)
 def test_event_timing_away(name):
     r = row(name)
-    # Walking away, foot off: measured median 32-47 ms per clip (130 ms early on the
+    # Walking away, foot off: measured median 25-47 ms per clip (130 ms early on the
     # first walking-away clip before the heel re-timing; target 33 ms, see
     # test_target_event_timing_one_frame). Bound: the largest measured plus a quarter frame.
     assert r["foot_off_median_ms"] <= 55
@@ -160,7 +163,7 @@ def test_event_timing_away(name):
 @pytest.mark.parametrize("name", [c for c in clips(LONG_DS) if c in TOWARD])
 def test_foot_off_timing_toward(name):
     r = row(name)
-    # Foot off, walking toward: measured median 6-31 ms on 19 clips (target 33 ms
+    # Foot off, walking toward: measured median 6-31 ms on 21 clips (target 33 ms
     # met), 49 ms on the slow walk with a long double support (xfail above);
     # single outliers up to 150 ms remain (target: none beyond 100 ms).
     assert r["foot_off_median_ms"] <= 33

@@ -228,6 +228,36 @@ def default_manifest() -> dict:
                                                   pelvis_marker_rgb=MARKER_GREEN),
          CameraParams(height_m=1.2, roll_deg=1.5), RoomParams(light_intensity=1.7, ambient=0.22), {},
          "skin markers on the pelvis, from 9 m in a dim room, camera rolled 1.5 deg; pelvic drop 8 deg"),
+        # Session of 2026-12-03: three more clients rendered after the methods were
+        # settled and measured once as rendered (held out), with combinations not
+        # used above: a broad client leaning over the left leg off the camera axis
+        # with the camera rolled clockwise; a short client with markers and a
+        # dropping pelvis on both sides filmed from a low camera; a walker filmed
+        # from behind at 25 fps leaning over the right leg.
+        ("truth_heldout_broad_left_lean", WalkParams(seed=41, speed_m_s=0.9, cadence_steps_min=100, height_m=1.76,
+                                                     width_scale=1.22, lateral_offset_m=-0.25,
+                                                     lean_left_stance_deg=8, lean_right_stance_deg=2,
+                                                     pelvic_drop_left_stance_deg=2, start_distance_m=8.0,
+                                                     end_distance_m=2.3, shirt_rgb=(0.55, 0.7, 0.85),
+                                                     trousers_rgb=(0.2, 0.2, 0.3)),
+         CameraParams(height_m=1.25, pitch_deg=-4.0, roll_deg=2.5),
+         RoomParams(light_azimuth_deg=-55, light_elevation_deg=45), {},
+         "held out: broad client leaning 8 deg over the left leg, 0.25 m off axis, camera rolled 2.5 deg"),
+        ("truth_heldout_short_markers_low", WalkParams(seed=42, speed_m_s=0.85, cadence_steps_min=102, height_m=1.55,
+                                                       width_scale=1.05, lean_right_stance_deg=6,
+                                                       lean_left_stance_deg=4, pelvic_drop_right_stance_deg=4,
+                                                       pelvic_drop_left_stance_deg=3, start_distance_m=7.5,
+                                                       end_distance_m=2.2, shirt_rgb=(0.75, 0.35, 0.3),
+                                                       trousers_rgb=(0.15, 0.2, 0.35), pelvis_marker_rgb=MARKER_GREEN),
+         CameraParams(height_m=0.95, pitch_deg=-2.0), RoomParams(light_azimuth_deg=40, light_elevation_deg=50), {},
+         "held out: short client with pelvis markers, low camera; lean 6/4 deg, pelvic drop 4/3 deg"),
+        ("truth_heldout_away_25fps", WalkParams(seed=43, start_distance_m=2.2, end_distance_m=7.5, speed_m_s=0.95,
+                                                cadence_steps_min=98, height_m=1.68, width_scale=1.0,
+                                                lean_right_stance_deg=7, lean_left_stance_deg=2,
+                                                pelvic_drop_right_stance_deg=3, shirt_rgb=(0.35, 0.5, 0.35),
+                                                trousers_rgb=(0.4, 0.35, 0.3)),
+         CameraParams(height_m=1.35, pitch_deg=-6.0), RoomParams(light_azimuth_deg=-10, light_elevation_deg=60),
+         {"fps": 25}, "held out: walking away at 25 fps, lean 7 deg over the right leg"),
     ]
     for name, walk, cam, room, video, desc in truth:
         clips.append(_entry(name, walk, cam, room, video, kind="truth", description=desc))
