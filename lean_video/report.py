@@ -233,6 +233,11 @@ def _side_view(side: str, st: Mapping, strides: pd.DataFrame) -> dict[str, Any]:
             "mech_stat": " and ".join(sorted(used)) or None}
 
 
+def _summary_drop_validated(summary: Mapping) -> bool:
+    """Does the summary say its pelvic drop came from a validated method? Absent means no."""
+    return ((summary.get("pelvic_obliquity_method") or {}).get("validated")) is True
+
+
 def render_session_report(
     summary: Mapping[str, Any], frames: pd.DataFrame, strides: pd.DataFrame, *,
     events: pd.DataFrame | None = None, hip_curve: object | None = None,
@@ -279,7 +284,9 @@ def render_session_report(
     roll = float(summary.get("camera_roll_deg") or 0.0)
     # Numbers from a method that failed validation (wrong sign on the test
     # walkers) are not shown to client or clinician; the CSV and JSON keep them.
-    pelvis_shown = (summary.get("pelvic_obliquity_method") or {}).get("validated") is not False
+    # A summary that does not say how pelvic drop was measured (written before
+    # the method was stated) is treated the same way: shown only when validated.
+    pelvis_shown = _summary_drop_validated(summary)
     # With pelvis markers the pictures show the markers' line; the model's hip
     # points (which tilt with the trunk) are then not joined.
     hip_line = pelvis_shown and summary.get("pelvic_obliquity_source") != "pelvis markers"
@@ -295,8 +302,7 @@ def render_session_report(
                       "lean": lean, "time_s": p.get("time_s")}
     plots = [("plot-lean", figures.lean_timeseries(frames, strides, events))]
     if pelvis_shown:
-        plots.append(("plot-obliquity", figures.obliquity_timeseries(
-            frames, strides, validated=bool((summary.get("pelvic_obliquity_method") or {}).get("validated")))))
+        plots.append(("plot-obliquity", figures.obliquity_timeseries(frames, strides, validated=True)))
     plots.append(("plot-phases", figures.phase_lean(strides, summary["sides"])))
     if hip_curve:
         plots.append(("plot-hipforce", figures.hip_force_curve(hip_curve, strides)))
@@ -328,8 +334,7 @@ _HIST_METRICS = (("lean_mean_deg", "lean", "°"), ("hip_force_change_pct", "forc
 
 def _drop_validated(session: Mapping) -> bool:
     """Was this session's pelvic drop measured by a validated method (pelvis markers)?"""
-    method = (session.get("summary") or {}).get("pelvic_obliquity_method") or {}
-    return method.get("validated") is True
+    return _summary_drop_validated(session.get("summary") or {})
 
 
 def history_rows(sessions: Sequence[Mapping]) -> dict[str, list[dict[str, Any]]]:

@@ -124,6 +124,8 @@ def make_picture(lean_deg: float = 6.0) -> dict:
 def session_html() -> tuple[str, dict]:
     strides = make_strides()
     summary = make_summary(strides)
+    # pelvic drop measured by the validated method, so every part of the report is drawn
+    summary["pelvic_obliquity_method"] = {"validated": True, "note": "From two stickers over the pelvis."}
     html = render_session_report(
         summary, make_frames(strides), strides, events=make_events(strides), hip_curve=make_curve(),
         pictures={"left": make_picture(6.0), "right": make_picture(-2.0)},
@@ -300,6 +302,20 @@ def test_unvalidated_pelvic_drop_is_withheld_from_the_report():
     assert "failed validation" not in html
 
 
+def test_pelvic_drop_of_unstated_method_is_withheld():
+    # A summary that does not say how pelvic drop was measured (written before the
+    # method was recorded) is not trusted: withheld, like a failed method, with its reason.
+    strides = make_strides()
+    summary = make_summary(strides)
+    assert "pelvic_obliquity_method" not in summary
+    html = render_session_report(summary, make_frames(strides), strides, events=make_events(strides))
+    tables = parse(html).tables
+    assert "Your pelvis:" not in html
+    assert "Pelvic drop (°)" not in tables["side-table"][0]
+    assert 'id="plot-obliquity"' not in html
+    assert "does not say how it was measured" in html and "failed validation" not in html
+
+
 def test_session_numbers_match_summary(session_html):
     html, summary = session_html
     tables = parse(html).tables
@@ -374,8 +390,9 @@ def test_mechanics_medians_and_dict_curve_accepted():
             st[col] = float(strides.loc[strides["stance_side"] == side, col].median())
     curve = {k: np.array([d[k] for d in make_curve()]) for k in make_curve()[0]}
     html = render_session_report(summary, make_frames(strides), strides, hip_curve=curve)
-    row = {r[0]: r for r in parse(html).tables["side-table"][1:]}["left"]
-    assert row[7] == f"{summary['sides']['left']['lever_arm_cm']:.1f}"
+    table = parse(html).tables["side-table"]
+    row = {r[0]: r for r in table[1:]}["left"]
+    assert row[table[0].index("Lever arm (cm)")] == f"{summary['sides']['left']['lever_arm_cm']:.1f}"
     assert "per-side median over phases" in html and 'id="plot-hipforce"' in html
 
 
