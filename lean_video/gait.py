@@ -35,12 +35,13 @@ import pandas as pd
 from scipy import stats
 
 from lean_video.errors import LeanVideoError
-from lean_video.gait_clean import clean_track, keypoints_to_track
+from lean_video.gait_clean import clean_track, keypoints_to_track, pad_time_gaps
 from lean_video.gait_events import (
     assign_client_sides, body_height_px, detect_contacts, foot_speeds,
     refine_event_times, rest_noise, smooth_body_height, walking_direction,
 )
 from lean_video.gait_frontal import bound_by_double_support, drop_short_contacts, foot_centre_events, order_events
+from lean_video.gait_options import check_frame_rate, check_gait_options
 from lean_video.gait_pelvis import line_obliquity_deg, marker_obliquity
 
 log = logging.getLogger(__name__)
@@ -254,6 +255,35 @@ def summarise_sides(strides: pd.DataFrame, events: pd.DataFrame, warnings: list[
     return {"cadence_steps_per_min": cadence, "sides": sides, "asymmetry": asym}
 
 
+def _require_landmarks(raw: dict[str, np.ndarray]) -> None:
+    """Refuse a table in which a landmark the analysis needs is never seen (named, not "no phase found")."""
+    need = ("left_shoulder", "right_shoulder", "left_hip", "right_hip", "left_ankle", "right_ankle")
+    never = [name for name in need if not np.isfinite(raw[name]).all(axis=1).any()]
+    if never:
+        raise LeanVideoError(f"the keypoints never hold a usable {', '.join(never)} (missing, or visibility below "
+                             "min_visibility in every frame); film again with the whole body in view, or lower "
+                             "min_visibility only if the pose source reports visibility differently.")
+
+
+def _pad_gaps(frame, time_s, raw, *, max_gap_s):
+    """Stand missing samples in for jumps in time (:func:`lean_video.gait_clean.pad_time_gaps`)."""
+    padded, real = pad_time_gaps(time_s, max_gap_s=max_gap_s)
+    if real.all():
+        return frame, time_s, raw, real, []
+    out_frame = np.full(len(padded), -1, dtype=int)
+    out_frame[real] = frame
+    out_raw = {}
+    for name, xy in raw.items():
+        full = np.full((len(padded), 2), np.nan)
+        full[real] = xy
+        out_raw[name] = full
+    jumps = np.flatnonzero(np.diff(np.flatnonzero(real)) > 1)
+    at = ", ".join(f"{time_s[j]:.2f}-{time_s[j + 1]:.2f} s" for j in jumps)
+    warning = (f"the keypoints skip time ({at}): no phase is measured across a jump; "
+               "re-run the pose stage on the whole clip, or film again without interruptions")
+    return out_frame, padded, out_raw, real, [warning]
+
+
 def analyse_keypoints(
     keypoints: pd.DataFrame, *, width: int, height: int, camera_roll_deg: float = 0.0,
     cutoff_hz: float = 6.0, min_visibility: float = 0.5, max_gap_s: float = 0.1,
@@ -363,12 +393,14 @@ def analyse_keypoints(
     for name, value in (("width", width), ("height", height)):
         if not isinstance(value, (int, np.integer)) or value <= 0:
             raise LeanVideoError(f"{name} must be a positive integer number of pixels, got {value!r}; pass the upright image size from clip.json.")
-    if not -45.0 <= camera_roll_deg <= 45.0:
-        raise LeanVideoError(f"camera_roll_deg must lie within -45..45 degrees, got {camera_roll_deg}; level the phone or measure its roll.")
+    check_gait_options(dict(
+        camera_roll_deg=camera_roll_deg, cutoff_hz=cutoff_hz, min_visibility=min_visibility, max_gap_s=max_gap_s,
+        event_cutoff_hz=event_cutoff_hz, min_phase_s=min_phase_s, max_phase_s=max_phase_s,
+        max_missing_fraction=max_missing_fraction, footprint_tolerance=footprint_tolerance,
+        foot_centre_cutoff_hz=foot_centre_cutoff_hz, max_jitter_ratio=max_jitter_ratio,
+        min_double_support_fraction=min_double_support_fraction), function=analyse_keypoints)
     if contact_points not in ("centroid", "each"):
         raise LeanVideoError(f"contact_points must be 'centroid' or 'each', got {contact_points!r}; use 'centroid'.")
-    if not foot_centre_cutoff_hz > 0:
-        raise LeanVideoError(f"foot_centre_cutoff_hz must be positive, got {foot_centre_cutoff_hz}; use 10 Hz.")
     if not 0 < contact_on_fraction <= contact_off_fraction < 1:
         raise LeanVideoError(f"contact fractions must satisfy 0 < on <= off < 1, got {contact_on_fraction} and {contact_off_fraction}; use 0.2 and 0.3.")
     settings = dict(
@@ -386,6 +418,9 @@ def analyse_keypoints(
         filter="Butterworth order 2 per pass, sosfiltfilt (zero lag), per valid segment on a uniform grid",
     )
     frame, time_s, raw = keypoints_to_track(keypoints, min_visibility=min_visibility)
+    check_frame_rate(float(np.median(np.diff(time_s))), cutoff_hz=cutoff_hz, event_cutoff_hz=event_cutoff_hz)
+    _require_landmarks(raw)
+    frame, time_s, raw, real, gap_warning = _pad_gaps(frame, time_s, raw, max_gap_s=max_gap_s)
     filtered, filled, n_swaps = clean_track(raw, time_s, max_gap_s=max_gap_s, cutoff_hz=cutoff_hz)
     if event_cutoff_hz == cutoff_hz:
         ev_track = filtered
@@ -396,6 +431,7 @@ def analyse_keypoints(
     fc_track = ev_track if fc_cutoff_hz == event_cutoff_hz else clean_track(
         raw, time_s, max_gap_s=max_gap_s, cutoff_hz=fc_cutoff_hz)[0]
     direction, slope, warnings = walking_direction(filled, time_s)
+    warnings += gap_warning
     (filtered, ev_track, fc_track), n_relabel = assign_client_sides(
         [filtered, ev_track, fc_track], direction)
 
@@ -468,7 +504,7 @@ def analyse_keypoints(
             if o_seen:
                 ev_rows.append((t_off, side, "foot_off"))
     events = pd.DataFrame(ev_rows, columns=["time_s", "side", "event"]).sort_values("time_s")
-    nearest = [int(frame[np.argmin(np.abs(time_s - t))]) for t in events["time_s"]]
+    nearest = [int(frame[real][np.argmin(np.abs(time_s[real] - t))]) for t in events["time_s"]]
     events.insert(1, "frame", np.array(nearest, dtype=int))
     events = events.reset_index(drop=True)
 
@@ -477,7 +513,7 @@ def analyse_keypoints(
         "pelvic_obliquity_deg": obliq, "left_contact": contact["left"],
         "right_contact": contact["right"],
         "valid": np.isfinite(lean),
-    })
+    })[real].reset_index(drop=True)  # the samples standing for a jump in time are not frames
 
     summary = {
         "direction": direction,
@@ -485,7 +521,7 @@ def analyse_keypoints(
         "pelvic_obliquity_source": "hip landmarks" if markers is None else "pelvis markers",
         **(summarise_sides(strides, events, warnings, dropped=drops) if summarise else {}),
         "quality": {
-            "n_frames": int(len(frame)),
+            "n_frames": int(len(frames)),
             "n_valid_frames": int(frames["valid"].sum()),
             "n_label_swaps_repaired": int(n_swaps),
             "n_side_relabellings": int(n_relabel),
@@ -493,6 +529,7 @@ def analyse_keypoints(
             "n_events_reordered": int(n_reordered),
             "n_events_bounded_by_double_support": int(n_bounded),
             "n_pelvis_marker_frames": 0 if markers is None else int(round(markers.seen_fraction * len(frame))),
+            "time_gaps_s": [round(float(g), 3) for g in np.diff(time_s[real])[np.diff(np.flatnonzero(real)) > 1]],
             "log_size_slope_per_s": None if not np.isfinite(slope) else float(slope),
             "dropped_phases": drops,
             "n_dropped_phases": len(drops),

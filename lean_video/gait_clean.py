@@ -67,6 +67,9 @@ def keypoints_to_track(
     track : dict of ndarray (n, 2)
         ``(x_px, y_px)`` per landmark in :data:`LANDMARKS`.
     """
+    if not isinstance(keypoints, pd.DataFrame):
+        raise LeanVideoError(f"keypoints must be a pandas DataFrame (the long keypoint table), got "
+                             f"{type(keypoints).__name__}; read keypoints.csv with pandas.read_csv.")
     missing = [c for c in REQUIRED_COLUMNS if c not in keypoints.columns]
     if missing:
         raise LeanVideoError(
@@ -77,6 +80,10 @@ def keypoints_to_track(
         raise LeanVideoError(
             f"min_visibility must lie in [0, 1], got {min_visibility}; use e.g. 0.5."
         )
+    fr = pd.to_numeric(keypoints["frame"], errors="coerce")
+    if not (np.isfinite(fr).all() and (fr == np.round(fr)).all()):
+        raise LeanVideoError("keypoints frame must hold whole frame numbers in every row (some are missing or not "
+                             "numbers); re-run the pose stage on the clip.")
     frames = keypoints[["frame", "time_s"]].drop_duplicates("frame").sort_values("frame")
     frame = frames["frame"].to_numpy(dtype=int)
     time_s = frames["time_s"].to_numpy(dtype=float)
@@ -184,8 +191,8 @@ def fill_short_gaps(
     values : ndarray, shape (n,) or (n, d)
     time_s : ndarray, shape (n,)
     """
-    if max_gap_s < 0:
-        raise LeanVideoError(f"max_gap_s must be >= 0, got {max_gap_s}; use e.g. 0.1.")
+    if not (np.isfinite(max_gap_s) and max_gap_s >= 0):
+        raise LeanVideoError(f"max_gap_s must be a number of seconds >= 0, got {max_gap_s}; use e.g. 0.1.")
     v = np.array(values, dtype=float, copy=True)
     flat = v.reshape(len(time_s), -1)
     dt = _median_dt(time_s)
@@ -199,6 +206,50 @@ def fill_short_gaps(
             if b - a > 1 and time_s[b] - time_s[a] - dt <= max_gap_s + 1e-9:
                 col[a + 1:b] = np.interp(time_s[a + 1:b], [time_s[a], time_s[b]], [col[a], col[b]])
     return flat.reshape(v.shape)
+
+
+def pad_time_gaps(time_s: np.ndarray, *, max_gap_s: float = 0.1) -> tuple[np.ndarray, np.ndarray]:
+    """Insert sample times where the table skips more than ``max_gap_s`` of time.
+
+    Keypoints from another source may leave out frames without a person, and a
+    phone can stall for a moment: the timestamps then jump. Everything
+    downstream finds contiguous data by sample index, so the jump is made a
+    run of missing samples, spaced by the median frame interval, which the
+    gap rules (:func:`fill_short_gaps`) and the phase gates then treat like any
+    stretch without a person.
+
+    Parameters
+    ----------
+    time_s : ndarray, shape (n,)
+        Strictly increasing timestamps.
+    max_gap_s : float, keyword-only
+        Missing time (beyond one frame interval) up to which a jump is left as it is.
+
+    Returns
+    -------
+    time_s : ndarray, shape (m,)
+        The timestamps with the inserted ones, m >= n.
+    real : ndarray of bool, shape (m,)
+        True at the original samples.
+    """
+    dt = _median_dt(time_s)
+    missing = np.diff(time_s) - dt
+    jumps = np.flatnonzero(missing > max_gap_s + 1e-9)
+    if not jumps.size:
+        return np.asarray(time_s, float), np.ones(len(time_s), bool)
+    parts, real = [], []
+    start = 0
+    for j in jumps:
+        parts.append(time_s[start:j + 1])
+        real.append(np.ones(j + 1 - start, bool))
+        k = int(round((time_s[j + 1] - time_s[j]) / dt)) - 1
+        fill = np.linspace(time_s[j], time_s[j + 1], k + 2)[1:-1]
+        parts.append(fill)
+        real.append(np.zeros(len(fill), bool))
+        start = j + 1
+    parts.append(time_s[start:])
+    real.append(np.ones(len(time_s) - start, bool))
+    return np.concatenate(parts), np.concatenate(real)
 
 
 def finite_segments(mask: np.ndarray) -> list[tuple[int, int]]:

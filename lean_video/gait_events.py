@@ -174,7 +174,8 @@ def foot_speeds(
     module docstring) for heel, ankle, foot_index, and of their mean velocity over the points
     seen in each frame ("centroid", less noisy); NaN where untracked.
     """
-    b_ref = float(np.nanmedian(scale_px))
+    # no frame with both shoulders and feet: no speeds (and no numpy warning)
+    b_ref = float(np.nanmedian(scale_px)) if np.isfinite(scale_px).any() else np.nan
     out = {}
     vel = []
     for part in FOOT_POINTS:
@@ -219,7 +220,10 @@ def _drop_short(st, time_s, value, min_s):
     """Flip interior runs of ``value`` shorter than ``min_s`` (in place)."""
     dt = float(np.median(np.diff(time_s))) if len(time_s) > 1 else 0.0
     for c0, c1 in finite_segments(st == value):
-        if 0 < c0 and c1 < len(st) and time_s[c1 - 1] - time_s[c0] + dt < min_s:
+        # A run must last longer than min_s to stay. The tolerance keeps a run of
+        # exactly min_s (three frames of 0.1 s at 30 fps) from being kept or not
+        # depending on where the clock started (float rounding).
+        if 0 < c0 and c1 < len(st) and time_s[c1 - 1] - time_s[c0] + dt < min_s + 1e-6:
             st[c0:c1] = not value
 
 
@@ -280,7 +284,7 @@ def detect_contacts(
         # a lone point pausing in mid-swing does not
         anchored = np.zeros(b - a, bool)
         for f0, f1 in finite_segments(flat):
-            if tt[f1 - 1] - tt[f0] + dt >= min_flat_s:
+            if tt[f1 - 1] - tt[f0] + dt >= min_flat_s - 1e-6:  # at least min_flat_s (tolerance as in _drop_short)
                 for u0, u1 in finite_segments(union):
                     if u0 <= f0 < u1:
                         anchored[u0:u1] = True

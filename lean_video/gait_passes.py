@@ -33,6 +33,7 @@ from lean_video.errors import LeanVideoError
 from lean_video.gait import GaitResult, analyse_keypoints, summarise_sides
 from lean_video.gait_clean import keypoints_to_track
 from lean_video.gait_events import body_height_px, smooth_body_height
+from lean_video.gait_options import check_frame_rate, check_gait_options
 
 log = logging.getLogger(__name__)
 
@@ -165,7 +166,11 @@ def analyse_walk(keypoints: pd.DataFrame, *, width: int, height: int, **options)
     LeanVideoError
         If no pass has a single-support phase.
     """
+    # Options first: a bad one must not read as "no phase found" in every pass.
+    check_gait_options({"width": width, "height": height, **options}, function=analyse_keypoints)
     frame, time_s, raw = keypoints_to_track(keypoints, min_visibility=options.get("min_visibility", 0.5))
+    check_frame_rate(float(np.median(np.diff(time_s))), cutoff_hz=options.get("cutoff_hz", 6.0),
+                     event_cutoff_hz=options.get("event_cutoff_hz", 6.0))
     passes = find_passes(body_height_px(raw), time_s)
     if len(passes) <= 1:
         result = analyse_keypoints(keypoints, width=width, height=height, **options)

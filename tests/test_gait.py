@@ -714,3 +714,82 @@ def test_early_foot_off_walking_away_is_bounded_by_a_minimum_double_support():
     assert r2[1] == right[1]                             # no left strike after 1.50 is seen: left alone
     # the left offs at 0.55 and 1.55 were 0.05 s after the right strikes at 0.50 and 1.50
     assert l2[0][1] == pytest.approx(0.58) and l2[1][1] == pytest.approx(1.58) and n == 3
+
+
+# --- boundary checks of the whole stage (review of 2026-12-03) ------------------
+
+def test_pad_time_gaps_inserts_missing_samples_only_beyond_the_gap_limit():
+    from lean_video.gait_clean import pad_time_gaps
+    t = np.r_[np.arange(10) / 30, np.arange(20, 30) / 30]      # 9 frames (0.3 s) missing
+    padded, real = pad_time_gaps(t, max_gap_s=0.1)
+    assert real.sum() == 20 and len(padded) == 30
+    np.testing.assert_allclose(padded, np.arange(30) / 30, atol=1e-12)
+    short = np.r_[np.arange(10) / 30, np.arange(12, 20) / 30]  # one frame missing: left alone
+    padded, real = pad_time_gaps(short, max_gap_s=0.1)
+    assert real.all() and len(padded) == len(short)
+
+
+def test_frames_missing_from_the_table_are_a_gap_like_rows_without_a_person():
+    # Keypoints from another source may leave out frames without a person. Before,
+    # a phase spanning the jump was measured from the one frame beside it.
+    w = make_walk(direction="toward", noise_px=0.5, seed=1)
+    kp = w.keypoints
+    cut = kp[(kp["frame"] < 60) | (kp["frame"] > 75)]
+    hidden = kp.assign(x_px=np.where((kp["frame"] >= 60) & (kp["frame"] <= 75), np.nan, kp["x_px"]))
+    a = analyse_keypoints(cut, width=w.width, height=w.height)
+    b = analyse_keypoints(hidden, width=w.width, height=w.height)
+    pd.testing.assert_frame_equal(a.strides, b.strides)
+    assert len(a.frames) == cut["frame"].nunique() and (a.frames["frame"] >= 0).all()
+    assert a.summary["quality"]["time_gaps_s"] == [pytest.approx(17 / 30, abs=1e-3)]
+    assert any("skip time" in x for x in a.summary["quality"]["warnings"])
+    assert set(a.events["frame"]) <= set(cut["frame"])
+
+
+def test_results_do_not_depend_on_where_the_clock_starts():
+    # A run of exactly a minimum duration was kept or not depending on float rounding.
+    w = make_walk(direction="toward", noise_px=0.5, seed=1)
+    a = analyse_keypoints(w.keypoints, width=w.width, height=w.height)
+    b = analyse_keypoints(w.keypoints.assign(time_s=w.keypoints["time_s"] + 1000.0), width=w.width, height=w.height)
+    assert len(a.strides) == len(b.strides) and len(a.events) == len(b.events)
+    np.testing.assert_allclose(b.strides["start_s"] - 1000.0, a.strides["start_s"], atol=1e-6)
+
+
+@pytest.mark.parametrize("option, value, message", [
+    ("max_phase_s", float("nan"), r"max_phase_s must lie in \(0, 5\] \(a finite number\), got nan; use 1.0"),
+    ("max_gap_s", float("nan"), r"max_gap_s must lie in \[0, 1\]"),
+    ("max_missing_fraction", 1.0, r"max_missing_fraction must lie in \[0, 1\)"),
+    ("footprint_tolerance", float("inf"), r"footprint_tolerance must lie in \[0, 0.2\]"),
+    ("max_jitter_ratio", 0.5, r"max_jitter_ratio must be >= 1"),
+    ("camera_roll_deg", "2", r"camera_roll_deg must lie in \[-45, 45\] \(a finite number\), got '2'"),
+    ("cutoff_hz", 0.0, r"cutoff_hz must be positive"),
+    ("min_phase_s", 1.5, r"min_phase_s must be below max_phase_s, got 1.5 and 1.0"),
+])
+def test_every_numeric_option_is_checked_by_name(option, value, message):
+    w = make_walk(start_m=3.0, end_m=2.0)
+    with pytest.raises(LeanVideoError, match=message):
+        analyse_keypoints(w.keypoints, width=w.width, height=w.height, **{option: value})
+
+
+def test_cutoff_at_or_above_half_the_frame_rate_is_refused():
+    # It used to leave the data unfiltered while the settings said filtered.
+    w = make_walk(fps=10.0, start_m=5.0, end_m=2.0)
+    with pytest.raises(LeanVideoError, match=r"cutoff_hz must lie below half the clip's frame rate \(5.0 Hz at 10.0 fps\), got 6"):
+        analyse_keypoints(w.keypoints, width=w.width, height=w.height)
+    w = make_walk(start_m=3.0, end_m=2.0)
+    with pytest.raises(LeanVideoError, match="event_cutoff_hz must lie below half"):
+        analyse_keypoints(w.keypoints, width=w.width, height=w.height, event_cutoff_hz=16.0)
+    with pytest.raises(LeanVideoError, match=r"time_s must be in seconds.*milliseconds / 1000"):
+        analyse_keypoints(w.keypoints.assign(time_s=w.keypoints["time_s"] * 1000), width=w.width, height=w.height)
+
+
+def test_table_errors_name_what_is_wrong():
+    w = make_walk(start_m=3.0, end_m=2.0)
+    with pytest.raises(LeanVideoError, match="keypoints must be a pandas DataFrame .* got ndarray"):
+        analyse_keypoints(w.keypoints.to_numpy(), width=w.width, height=w.height)
+    no_hip = w.keypoints[w.keypoints["landmark"] != "right_hip"]
+    with pytest.raises(LeanVideoError, match="never hold a usable right_hip"):
+        analyse_keypoints(no_hip, width=w.width, height=w.height)
+    bad_frame = w.keypoints.astype({"frame": float})
+    bad_frame.loc[5, "frame"] = np.nan
+    with pytest.raises(LeanVideoError, match="frame must hold whole frame numbers"):
+        analyse_keypoints(bad_frame, width=w.width, height=w.height)

@@ -175,3 +175,16 @@ def test_rendered_walk_away_then_back(tmp_path):
         m = phase_match(part, truth[name])
         assert m["spurious"] == 0, (name, m)
         assert m["found"] >= 4, (name, m)
+
+
+def test_bad_option_is_named_not_read_as_no_phase_found():
+    # Each pass used to swallow the option's error, leaving "no single-support phase".
+    try:
+        from tests.gait_walker import make_walk
+    except ImportError:  # tests/ not a package
+        from gait_walker import make_walk
+    w = make_walk(start_m=3.0, end_m=2.0)
+    with pytest.raises(LeanVideoError, match="cutoff_hz must be positive"):
+        analyse_walk(w.keypoints, width=w.width, height=w.height, cutoff_hz=0.0)
+    with pytest.raises(LeanVideoError, match=r"unknown gait option\(s\) \['cutof_hz'\]"):
+        analyse_walk(w.keypoints, width=w.width, height=w.height, cutof_hz=5.0)
