@@ -107,7 +107,14 @@ def cmd_analyse(args: argparse.Namespace) -> int:
     if args.client is not None:
         client_id = store.validate_client_id(args.client)
         date = store.validate_date(args.date or dt.date.today().isoformat(), "--date")
+        store.check_client_text(display_name=args.name, notes=args.notes)
+        if (Path(args.input).is_dir() and (Path(args.input) / "clip.json").is_file()
+                and pipeline.input_sha256(args.input) is None):
+            raise LeanVideoError(f"{args.input} has no content hash for the client history (its clip.json holds no "
+                                 "sha256); analyse the video itself, or add the video's sha256 to clip.json.")
         db = store.open_store(args.data_dir)
+    elif args.name is not None or args.notes is not None:
+        raise LeanVideoError("--name and --notes belong to a client; add --client ID, or leave them out.")
     elif args.date is not None:
         store.validate_date(args.date, "--date")
     try:
@@ -134,11 +141,13 @@ def cmd_analyse(args: argparse.Namespace) -> int:
         if db is not None:
             db.upsert_client(client_id, mass_kg=args.mass_kg, height_m=args.height_m, notes=args.notes,
                              display_name=args.name)
-            session_id, replaced = db.save_session(
+            session_id, earlier = db.save_session(
                 client_id, date, analysis.summary["clip"].get("sha256", ""), analysis.summary["settings"],
                 analysis.summary["version"], analysis.summary, analysis.strides)
-            if replaced:
-                log.info("this clip was already stored for %s; its session was replaced", client_id)
+            args.stored_session = session_id
+            if earlier:
+                log.info("this clip was analysed before for %s; the earlier session is kept and the history "
+                         "report uses this analysis", client_id)
             client = db.get_client(client_id).as_dict()
         html = report.render_session_report(
             analysis.summary, analysis.frames, analysis.strides, events=analysis.events,
@@ -210,7 +219,13 @@ def cmd_forget(args: argparse.Namespace) -> int:
         if not args.yes:
             if not sys.stdin.isatty():
                 raise LeanVideoError("forget needs confirmation; run it in a terminal, or add --yes to confirm.")
-            answer = input(f"Delete client {client_id} and everything stored for them? Type the id to confirm: ")
+            # the prompt goes to stdout: stderr may be diverted (divert_native_stderr)
+            print(f"Delete client {client_id} and everything stored for them? Type the id to confirm: ",
+                  end="", flush=True)
+            try:
+                answer = input()
+            except EOFError:
+                answer = ""
             if answer.strip() != client_id:
                 print("nothing deleted")
                 return 1
@@ -382,8 +397,13 @@ def _caused_by_interrupt(exc: BaseException) -> bool:
     return False
 
 
-def _interrupted() -> int:
-    print("lean-video: interrupted; nothing was stored for this run.", file=sys.stderr)
+def _interrupted(args: argparse.Namespace | None = None) -> int:
+    stored = getattr(args, "stored_session", None)
+    if stored is None:
+        print("lean-video: interrupted; nothing was stored for this run.", file=sys.stderr)
+    else:
+        print(f"lean-video: interrupted; the analysis was stored (session {stored}) but its report may not have "
+              "been written: run the history or analyse command again for it.", file=sys.stderr)
     return EXIT_INTERRUPTED
 
 
@@ -400,23 +420,23 @@ def main(argv: list[str] | None = None) -> int:
     try:
         return int(args.func(args) or 0)
     except KeyboardInterrupt:
-        return _interrupted()
+        return _interrupted(args)
     except LeanVideoError as exc:
         if _caused_by_interrupt(exc):
-            return _interrupted()
+            return _interrupted(args)
         if args.debug:
             raise
         print(f"lean-video: error: {exc}", file=sys.stderr)
         return exc.exit_code
     except BrokenPipeError as exc:
         if _caused_by_interrupt(exc):
-            return _interrupted()
+            return _interrupted(args)
         # The reader went away (e.g. piped into 'head'): not an error of ours.
         os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
         return 0
     except Exception as exc:  # noqa: BLE001 - the last line of defence for a clinician
         if _caused_by_interrupt(exc):
-            return _interrupted()
+            return _interrupted(args)
         if args.debug:
             raise
         print(f"lean-video: unexpected error ({type(exc).__name__}: {exc}); run again with --debug "

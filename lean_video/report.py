@@ -412,6 +412,7 @@ def render_history_report(
            "client": _client_view(client), "clinic_name": clinic_name, "generated": generated_utc or _now(),
            "rows": rows, "plots": [(pid, _plot_div(fig, pid)) for pid, fig in plots], "provenance": prov,
            "shared_params": shared, "show_drop": show_drop,
+           "n_earlier": sum(int(s.get("n_earlier_analyses") or 0) for s in sessions),
            "n_sessions": len(sessions)}
     return _env().get_template("history.html.j2").render(**ctx)
 

@@ -10,21 +10,27 @@ Location
     ``~/.local/share/lean_video`` (XDG Base Directory Specification 0.8).
     The database file is ``<data_dir>/lean_video.sqlite3``.
 
-Schema (``PRAGMA user_version`` holds the version, currently 2)
+Schema (``PRAGMA user_version`` holds the version, currently 3)
     ``clients``  id (pseudonym, primary key), display_name, birth_year,
                  mass_kg, height_m, side_of_interest, notes, created_utc
     ``sessions`` id, client_id, date_filmed (YYYY-MM-DD), clip_sha256,
                  settings_json, software_version, summary_json, created_utc;
-                 unique (client_id, clip_sha256) so re-analysing a clip
-                 replaces its session
+                 re-analysing a clip adds a session and keeps the earlier
+                 ones (a stored session is never changed or overwritten); the
+                 history report uses the latest analysis of each clip
     ``phases``   session_id, phase_index and the per-phase columns of the
                  gait/mechanics ``strides`` table (:data:`PHASE_COLUMNS`)
     ``reports``  client_id, session_id, path, created_utc (report files the
                  CLI wrote, so ``forget_client`` can delete them)
 
     Version 1 had no ``clients.notes`` and no ``reports`` table; migration
-    1 -> 2 adds both. Migrations run inside one ``BEGIN IMMEDIATE``
-    transaction each, so a crash leaves the file at the old version.
+    1 -> 2 adds both. Version 2 allowed one session per client and clip and
+    replaced it on re-analysis; migration 2 -> 3 rebuilds ``sessions``
+    without that rule (rows, ids and phases kept). Migrations run inside one
+    ``BEGIN IMMEDIATE`` transaction, with foreign-key actions off while a
+    table is rebuilt and ``PRAGMA foreign_key_check`` before the commit
+    (SQLite documentation, "ALTER TABLE", section "Making Other Kinds Of
+    Table Schema Changes"), so a crash leaves the file at the old version.
 
 Concurrency
     WAL journal, ``busy_timeout`` and ``BEGIN IMMEDIATE`` on every write, so
@@ -54,7 +60,7 @@ from lean_video.errors import LeanVideoError
 
 logger = logging.getLogger(__name__)
 
-SCHEMA_VERSION = 2
+SCHEMA_VERSION = 3
 DB_FILENAME = "lean_video.sqlite3"
 BUSY_TIMEOUT_MS = 30_000
 
@@ -71,7 +77,8 @@ _CLIENT_ID_RE = re.compile(r"^[A-Za-z0-9_\-][A-Za-z0-9_.\-]{0,63}$")
 _DATE_RE = re.compile(r"^\d{4}-\d{2}-\d{2}$")
 _SHA256_RE = re.compile(r"^[0-9a-f]{64}$")
 MASS_RANGE_KG = (20.0, 300.0)     # common practice, no source: plausible adult/adolescent range
-HEIGHT_RANGE_M = (0.9, 2.3)       # common practice, no source
+HEIGHT_RANGE_M = (1.0, 2.3)       # common practice, no source; as the hip model's (mechanics_params)
+MAX_TEXT_CHARS = 10_000
 BIRTH_YEAR_MIN = 1900
 
 _V1_SQL = """
@@ -121,6 +128,27 @@ CREATE TABLE reports (
     created_utc TEXT NOT NULL
 );
 """,
+    # 2 -> 3: several sessions per client and clip (re-analysis keeps the earlier one).
+    2: """
+CREATE TABLE sessions_v3 (
+    id INTEGER PRIMARY KEY AUTOINCREMENT,
+    client_id TEXT NOT NULL REFERENCES clients(id) ON DELETE CASCADE,
+    date_filmed TEXT NOT NULL,
+    clip_sha256 TEXT NOT NULL,
+    settings_json TEXT NOT NULL,
+    software_version TEXT NOT NULL,
+    summary_json TEXT NOT NULL,
+    created_utc TEXT NOT NULL
+);
+INSERT INTO sessions_v3 (id, client_id, date_filmed, clip_sha256, settings_json, software_version, summary_json,
+                         created_utc)
+    SELECT id, client_id, date_filmed, clip_sha256, settings_json, software_version, summary_json, created_utc
+    FROM sessions;
+DROP TABLE sessions;
+ALTER TABLE sessions_v3 RENAME TO sessions;
+CREATE INDEX sessions_by_client ON sessions(client_id, date_filmed);
+CREATE INDEX sessions_by_clip ON sessions(client_id, clip_sha256)
+""",
 }
 
 
@@ -147,16 +175,35 @@ def validate_client_id(client_id: Any) -> str:
 
 
 def validate_date(date: Any, name: str = "date") -> str:
-    """Return an ISO ``YYYY-MM-DD`` date string if valid, else raise."""
+    """Return an ISO ``YYYY-MM-DD`` date string if valid and not in the future, else raise.
+
+    A day of slack allows for time zones (the clinic's today may be UTC's tomorrow).
+    """
     if isinstance(date, _dt.date):
         date = date.isoformat()[:10]
     if isinstance(date, str) and _DATE_RE.match(date):
         try:
-            _dt.date.fromisoformat(date)
-            return date
+            day = _dt.date.fromisoformat(date)
         except ValueError:
-            pass
+            day = None
+        if day is not None:
+            latest = _dt.date.today() + _dt.timedelta(days=1)
+            if day > latest:
+                raise _err(f"{name} must not lie in the future, got {date!r} (today is {_dt.date.today()}); "
+                           "give the day the clip was filmed.")
+            return date
     raise _err(f"{name} must be a calendar date written YYYY-MM-DD, got {date!r}; fix the date.")
+
+
+def check_client_text(*, display_name: Any = None, notes: Any = None) -> None:
+    """Validate a client's free-text fields (either may be None) before any work is done."""
+    for name, text in (("display_name", display_name), ("notes", notes)):
+        if text is None:
+            continue
+        if not isinstance(text, str):
+            raise _err(f"{name} must be text, got {type(text).__name__}; pass a string or leave it out.")
+        if len(text) > MAX_TEXT_CHARS:
+            raise _err(f"{name} must be at most {MAX_TEXT_CHARS} characters, got {len(text)}; shorten it.")
 
 
 def _check_range(value: Any, name: str, lo: float, hi: float, unit: str) -> float | None:
@@ -231,13 +278,18 @@ class Store:
     @contextmanager
     def _write(self) -> Iterator[sqlite3.Connection]:
         c = self._conn
-        c.execute("BEGIN IMMEDIATE")
         try:
-            yield c
-        except BaseException:
-            c.execute("ROLLBACK")
-            raise
-        c.execute("COMMIT")
+            c.execute("BEGIN IMMEDIATE")
+            try:
+                yield c
+            except BaseException:
+                # SQLite may already have rolled back (e.g. disk full): do not hide that error
+                if c.in_transaction:
+                    c.execute("ROLLBACK")
+                raise
+            c.execute("COMMIT")
+        except sqlite3.OperationalError as exc:
+            raise _sqlite_error(exc, self.path) from None
 
     def _require_client(self, client_id: str) -> None:
         validate_client_id(client_id)
@@ -265,9 +317,7 @@ class Store:
                 raise _err(f"birth_year must be a whole year {BIRTH_YEAR_MIN}-{this_year}, got {birth_year!r}; fix it or leave it out.")
         if side_of_interest is not None and side_of_interest not in ("left", "right"):
             raise _err(f"side_of_interest must be 'left' or 'right', got {side_of_interest!r}; use the client's own side.")
-        for name, text in (("display_name", display_name), ("notes", notes)):
-            if text is not None and (not isinstance(text, str) or len(text) > 10_000):
-                raise _err(f"{name} must be text of at most 10000 characters, got {type(text).__name__}; shorten it.")
+        check_client_text(display_name=display_name, notes=notes)
         fields = {"display_name": display_name, "birth_year": birth_year, "mass_kg": mass_kg,
                   "height_m": height_m, "side_of_interest": side_of_interest, "notes": notes}
         with self._write() as c:
@@ -299,43 +349,38 @@ class Store:
         self, client_id: str, date: str, clip_sha256: str, settings: Mapping, version: str,
         summary: Mapping, strides_df: pd.DataFrame,
     ) -> tuple[int, bool]:
-        """Store one analysed clip and its phases in one transaction.
+        """Store one analysed clip and its phases in one transaction, as a new session.
 
-        The same ``clip_sha256`` for the same client replaces that session
-        (same id, phases rewritten); other sessions are untouched.
+        A stored session is never changed: analysing the same clip again
+        (other settings, a newer version) adds a session and keeps the earlier
+        ones; :meth:`history` then uses the latest analysis of each clip.
 
         Returns
         -------
-        (session_id, replaced) : tuple[int, bool]
+        (session_id, earlier_kept) : tuple[int, bool]
+            ``earlier_kept`` is True when this client already had a session of the same clip.
         """
         self._require_client(client_id)
         date = validate_date(date, "date filmed")
-        if not isinstance(clip_sha256, str) or not _SHA256_RE.match(clip_sha256):
-            raise _err(f"clip_sha256 must be 64 lower-case hex digits, got {clip_sha256!r}; pass the clip's SHA-256.")
+        check_provenance(clip_sha256=clip_sha256, settings=settings, version=version)
         settings_json = _to_json(settings, "settings")
         summary_json = _to_json(summary, "summary")
         rows = _phase_rows(strides_df)
         with self._write() as c:
-            old = c.execute("SELECT id FROM sessions WHERE client_id=? AND clip_sha256=?",
-                            (client_id, clip_sha256)).fetchone()
-            if old is None:
-                cur = c.execute(
-                    "INSERT INTO sessions (client_id, date_filmed, clip_sha256, settings_json, software_version,"
-                    " summary_json, created_utc) VALUES (?,?,?,?,?,?,?)",
-                    (client_id, date, clip_sha256, settings_json, str(version), summary_json, _now_utc()))
-                sid = int(cur.lastrowid)
-            else:
-                sid = int(old[0])
-                c.execute("UPDATE sessions SET date_filmed=?, settings_json=?, software_version=?, summary_json=?,"
-                          " created_utc=? WHERE id=?",
-                          (date, settings_json, str(version), summary_json, _now_utc(), sid))
-                c.execute("DELETE FROM phases WHERE session_id=?", (sid,))
+            earlier = c.execute("SELECT COUNT(*) FROM sessions WHERE client_id=? AND clip_sha256=?",
+                                (client_id, clip_sha256)).fetchone()[0]
+            cur = c.execute(
+                "INSERT INTO sessions (client_id, date_filmed, clip_sha256, settings_json, software_version,"
+                " summary_json, created_utc) VALUES (?,?,?,?,?,?,?)",
+                (client_id, date, clip_sha256, settings_json, version, summary_json, _now_utc()))
+            sid = int(cur.lastrowid)
             cols = ", ".join(("session_id", "phase_index") + PHASE_COLUMNS)
             marks = ", ".join("?" * (2 + len(PHASE_COLUMNS)))
             c.executemany(f"INSERT INTO phases ({cols}) VALUES ({marks})",
                           [(sid, i, *r) for i, r in enumerate(rows)])
-        logger.info("session %d for client %s %s", sid, client_id, "replaced" if old else "saved")
-        return sid, old is not None
+        logger.info("session %d for client %s saved%s", sid, client_id,
+                    f" ({earlier} earlier analysis/analyses of this clip kept)" if earlier else "")
+        return sid, earlier > 0
 
     def list_sessions(self, client_id: str) -> list[Session]:
         """Sessions of one client, oldest filming date first."""
@@ -357,10 +402,22 @@ class Store:
         return df
 
     def history(self, client_id: str) -> list[dict[str, Any]]:
-        """Sessions in the shape :func:`lean_video.report.render_history_report` takes."""
+        """The latest analysis of each clip, in the shape :func:`lean_video.report.render_history_report` takes.
+
+        Earlier analyses of the same clip stay stored (:meth:`list_sessions`,
+        :meth:`export_client`) but are not trended: they are the same walk.
+        Each entry's ``n_earlier_analyses`` says how many were left out.
+        """
+        sessions = self.list_sessions(client_id)
+        latest: dict[str, Session] = {}
+        for s in sessions:
+            if s.clip_sha256 not in latest or s.id > latest[s.clip_sha256].id:
+                latest[s.clip_sha256] = s
+        counts = {sha: sum(1 for s in sessions if s.clip_sha256 == sha) for sha in latest}
         return [{"session_id": s.id, "date": s.date_filmed, "clip_sha256": s.clip_sha256,
                  "version": s.software_version, "settings": s.settings, "summary": s.summary,
-                 "phases": self.get_phases(s.id)} for s in self.list_sessions(client_id)]
+                 "n_earlier_analyses": counts[s.clip_sha256] - 1,
+                 "phases": self.get_phases(s.id)} for s in sessions if latest[s.clip_sha256] is s]
 
     # -- reports, export, forget ---------------------------------------
     def record_report(self, client_id: str, path: str | os.PathLike, session_id: int | None = None) -> None:
@@ -399,6 +456,11 @@ class Store:
                 p_rows.append([s.id, s.date_filmed, i, *rec])
         _write_csv(phases_csv, ["session_id", "date_filmed", "phase_index", *PHASE_COLUMNS], p_rows)
         paths = [json_path, client_csv, sessions_csv, phases_csv]
+        for p in paths:
+            try:
+                os.chmod(p, 0o600)   # client data: owner only, like the store and the reports
+            except OSError:
+                pass
         return paths
 
     def forget_client(self, client_id: str) -> dict[str, int]:
@@ -411,7 +473,13 @@ class Store:
             n_sess = c.execute("SELECT COUNT(*) FROM sessions WHERE client_id=?", (client_id,)).fetchone()[0]
             n_ph = c.execute("SELECT COUNT(*) FROM phases WHERE session_id IN (SELECT id FROM sessions WHERE client_id=?)",
                              (client_id,)).fetchone()[0]
-            paths = [r[0] for r in c.execute("SELECT path FROM reports WHERE client_id=?", (client_id,))]
+            # Several clients' reports can go to the same path (one --out folder):
+            # the file holds whoever's report was written last, so it is deleted
+            # only when that was this client's.
+            paths = [r[0] for r in c.execute(
+                "SELECT path FROM reports r WHERE client_id=? GROUP BY path HAVING MAX(id) > "
+                "COALESCE((SELECT MAX(id) FROM reports o WHERE o.path=r.path AND o.client_id<>?), 0)",
+                (client_id, client_id))]
             c.execute("DELETE FROM phases WHERE session_id IN (SELECT id FROM sessions WHERE client_id=?)", (client_id,))
             c.execute("DELETE FROM reports WHERE client_id=?", (client_id,))
             c.execute("DELETE FROM sessions WHERE client_id=?", (client_id,))
@@ -432,6 +500,32 @@ _CLIENT_SELECT = (
     "SELECT c.id, c.display_name, c.birth_year, c.mass_kg, c.height_m, c.side_of_interest, c.notes,"
     " c.created_utc, COUNT(s.id), MAX(s.date_filmed) FROM clients c LEFT JOIN sessions s ON s.client_id=c.id"
 )
+
+
+def check_provenance(*, clip_sha256: Any, settings: Any, version: Any) -> None:
+    """Refuse a session without its provenance: the clip's content hash, the settings used, the version."""
+    if not isinstance(clip_sha256, str) or not _SHA256_RE.match(clip_sha256):
+        raise _err(f"the clip's SHA-256 must be 64 lower-case hex digits, got {clip_sha256!r}; analyse the video "
+                   "itself, or a keypoint folder whose clip.json holds the video's sha256.")
+    if not isinstance(settings, Mapping) or not settings:
+        raise _err(f"settings must be the non-empty mapping of every parameter used, got {settings!r}; "
+                   "pass the analysis summary's settings.")
+    if not isinstance(version, str) or not version.strip():
+        raise _err(f"version must be the software version that made the analysis, got {version!r}; "
+                   "pass lean_video.__version__.")
+
+
+def _sqlite_error(exc: sqlite3.Error, path: Path) -> LeanVideoError:
+    """A clinician-readable error for a failed write to the store (nothing was changed)."""
+    text = str(exc).lower()
+    if "locked" in text or "busy" in text:
+        return _err(f"the client store {path.name} is in use by another lean-video (waited "
+                    f"{BUSY_TIMEOUT_MS // 1000} s); let that one finish and run this again. Nothing was changed.")
+    if "full" in text:
+        return _err(f"the disk holding the client store {path.name} is full; free some space and run this again. "
+                    "Nothing was changed.")
+    return _err(f"the client store {path.name} could not be written ({exc}); check the data folder and run "
+                "this again. Nothing was changed.")
 
 
 def _to_json(obj: Any, name: str) -> str:
@@ -465,9 +559,14 @@ def _phase_rows(df: pd.DataFrame) -> list[tuple]:
     for rec in df.reindex(columns=list(PHASE_COLUMNS)).itertuples(index=False):
         vals = [rec[0]]
         for name, v in zip(PHASE_COLUMNS[1:], rec[1:]):
-            v = None if v is None or (isinstance(v, float) and math.isnan(v)) else float(v)
+            try:
+                v = None if v is None or pd.isna(v) else float(v)
+            except (TypeError, ValueError):
+                raise _err(f"strides_df column {name} holds {v!r}, not a number; pass the gait strides table.") from None
             if v is None and name in _REQUIRED_PHASE_COLUMNS:
                 raise _err(f"strides_df column {name} has a missing value; drop incomplete phases before saving.")
+            if v is not None and not math.isfinite(v):
+                raise _err(f"strides_df column {name} holds {v}, not a finite number; fix the analysis before saving.")
             vals.append(v)
         rows.append(tuple(vals))
     return rows
@@ -536,6 +635,12 @@ def open_store(data_dir: str | os.PathLike | None = None) -> Store:
     except LeanVideoError:
         conn.close()
         raise
+    except sqlite3.OperationalError as exc:
+        conn.close()
+        if any(w in str(exc).lower() for w in ("locked", "busy", "full")):
+            raise _sqlite_error(exc, path) from None
+        raise _err(f"client store {path.name} in the data folder is damaged or not a lean_video database ({exc}); "
+                   "restore it from a backup or move it aside to start a new one.") from None
     except sqlite3.DatabaseError as exc:
         conn.close()
         raise _err(f"client store {path.name} in the data folder is damaged or not a lean_video database ({exc}); "
@@ -548,11 +653,17 @@ def _check_and_migrate(conn: sqlite3.Connection, path: Path) -> None:
     if check != "ok":
         raise sqlite3.DatabaseError(f"integrity check: {check}")
     version = conn.execute("PRAGMA user_version").fetchone()[0]
+    if version < 0:
+        raise sqlite3.DatabaseError(f"schema version {version}")
     if version > SCHEMA_VERSION:
         raise _err(f"client store {path.name} has schema version {version} but this lean_video understands up to "
                    f"{SCHEMA_VERSION}; update lean_video before opening it.")
     if version == SCHEMA_VERSION:
         return
+    # A table rebuild drops the old table; with foreign-key actions on that
+    # would cascade into the phases. The pragma only changes outside a
+    # transaction; the rebuilt schema is checked before the commit.
+    conn.execute("PRAGMA foreign_keys=OFF")
     conn.execute("BEGIN IMMEDIATE")
     try:
         # Re-read under the write lock: another process may have migrated meanwhile.
@@ -568,11 +679,19 @@ def _check_and_migrate(conn: sqlite3.Connection, path: Path) -> None:
             _exec_script(conn, _MIGRATIONS[version])
             version += 1
             logger.info("client store migrated to schema %d", version)
+        broken = conn.execute("PRAGMA foreign_key_check").fetchall()
+        if broken:
+            raise sqlite3.DatabaseError(f"foreign keys broken by the migration: {broken[:3]}")
         conn.execute(f"PRAGMA user_version={int(version)}")
     except BaseException:
-        conn.execute("ROLLBACK")
+        if conn.in_transaction:
+            conn.execute("ROLLBACK")
         raise
+    finally:
+        if not conn.in_transaction:
+            conn.execute("PRAGMA foreign_keys=ON")
     conn.execute("COMMIT")
+    conn.execute("PRAGMA foreign_keys=ON")
 
 
 def _exec_script(conn: sqlite3.Connection, script: str) -> None:

@@ -105,15 +105,16 @@ def test_analyse_store_history_export_forget(tmp_path):
     assert summary["pelvic_obliquity_method"]["validated"] is False
     assert 'id="lean-accuracy"' in html and "do not shrink with more steps" in html
     assert 'id="timing-accuracy"' in html and summary["events_method"]["foot_strike_median_error_ms"]["toward"][1] > 0
-    # Same clip again: the session is replaced, not duplicated; mass and height are remembered.
+    # Same clip again: a new session, the earlier one kept (a stored session is never
+    # overwritten); the history uses the latest analysis; mass and height are remembered.
     again = cli("analyse", str(WALKER), "--out", str(out / "a"), "--client", "HP-077", "--date", "2026-09-01",
                 data_dir=data)
     assert again.returncode == 0, again.stderr
-    assert "replaced" in again.stderr
+    assert "earlier session is kept" in again.stderr
     later = cli("analyse", str(LATER), "--out", str(out / "b"), "--client", "HP-077", "--date", "2026-10-13",
                 data_dir=data)
     assert later.returncode == 0, later.stderr
-    assert len(sessions(data)) == 2
+    assert len(sessions(data)) == 3
     assert json.loads((out / "b" / "summary.json").read_text())["settings"]["analysis"]["mass_kg"] == 80
     hist = cli("history", "HP-077", "--out", str(out), data_dir=data)
     assert hist.returncode == 0, hist.stderr
@@ -185,7 +186,8 @@ def test_two_clients_at_once_and_same_clip_twice(tmp_path):
         _, err = p.communicate(timeout=600)
         assert p.returncode == 0, err
     stored = sessions(data)
-    assert sorted(c for c, _, _ in stored) == ["HP-101", "HP-102"]
+    # all three land; the same clip twice is two sessions (the earlier is never overwritten)
+    assert sorted(c for c, _, _ in stored) == ["HP-101", "HP-101", "HP-102"]
 
 
 @pytest.mark.slow
@@ -271,3 +273,53 @@ def test_pelvis_markers_option(tmp_path):
     from_folder = cli("analyse", str(hand), "--out", str(tmp_path / "f"))
     assert from_folder.returncode == 0, from_folder.stderr
     assert json.loads((tmp_path / "f" / "summary.json").read_text())["pelvic_obliquity_source"] == "pelvis markers"
+
+
+def test_forget_prompt_is_seen_and_ctrl_d_deletes_nothing(tmp_path, monkeypatch, capsys):
+    # The prompt goes to stdout (stderr may be diverted); Ctrl-D at it is "no".
+    from lean_video import cli, store
+
+    with store.open_store(tmp_path) as db:
+        db.upsert_client("HP-300")
+    monkeypatch.setattr(sys.stdin, "isatty", lambda: True)
+
+    def eof(*_a):
+        raise EOFError
+
+    monkeypatch.setattr("builtins.input", eof)
+    assert cli.main(["forget", "HP-300", "--data-dir", str(tmp_path)]) == 1
+    out = capsys.readouterr().out
+    assert "Type the id to confirm" in out and "nothing deleted" in out
+    with store.open_store(tmp_path) as db:
+        assert db.get_client("HP-300").id == "HP-300"
+
+
+def test_client_text_checked_before_any_analysis(tmp_path, capsys):
+    from lean_video import cli
+
+    code = cli.main(["analyse", str(WALKER), "--out", str(tmp_path / "o"), "--client", "HP-301",
+                     "--notes", "x" * 10_001, "--data-dir", str(tmp_path / "db")])
+    assert code != 0 and "notes must be at most 10000 characters, got 10001" in capsys.readouterr().err
+    assert not (tmp_path / "o").exists() and not (tmp_path / "db").exists()
+    code = cli.main(["analyse", str(WALKER), "--out", str(tmp_path / "o"), "--name", "Ann"])
+    assert code != 0 and "--name and --notes belong to a client" in capsys.readouterr().err
+
+
+def test_interrupt_after_the_session_was_stored_says_so(monkeypatch, capsys):
+    from lean_video import cli
+
+    def stored_then_interrupted(args):
+        args.stored_session = 7
+        raise KeyboardInterrupt
+
+    parser = cli.build_parser
+
+    def patched():
+        p = parser()
+        p._subparsers._group_actions[0].choices["check"].set_defaults(func=stored_then_interrupted)
+        return p
+
+    monkeypatch.setattr(cli, "build_parser", patched)
+    assert cli.main(["check", "whatever.mp4"]) == 130
+    err = capsys.readouterr().err
+    assert "the analysis was stored (session 7)" in err and "nothing was stored" not in err

@@ -703,3 +703,12 @@ def test_report_renders_in_headless_browser(kind, session_html, tmp_path):
     assert pdf.exists() and pdf.read_bytes()[:5] == b"%PDF-", res.stderr[-2000:]
     shutil.copy(pdf, ARTIFACTS / f"{kind}_report.pdf")
     shutil.copy(page, ARTIFACTS / f"{kind}_report.html")
+
+
+def test_history_says_when_earlier_analyses_of_a_clip_are_left_out():
+    sessions = make_sessions()
+    html = render_history_report({"id": "HP-014"}, sessions)
+    assert 'id="earlier-analyses"' not in html
+    sessions[1]["n_earlier_analyses"] = 2
+    html = render_history_report({"id": "HP-014"}, sessions)
+    assert "2 earlier\nanalysis/analyses of the same clips stay stored unchanged" in html
