@@ -93,6 +93,10 @@ def cmd_hip_model(args: argparse.Namespace) -> int:
         print()
         print("_p05/_p95: 5-95 % band over published ranges of body proportions and muscle geometry "
               f"(Monte Carlo, {band.n_draws} draws, seed {band.seed}).")
+        if not all(row["abductors_active"] for row in rows):
+            print("abductors_active False: the body weight lies over or past the stance hip (or the cane carries "
+                  "its moment); the pelvis is then held by adductors and passive structures, which the model "
+                  "leaves out, so its forces there understate the load.")
         print(mechanics.CAUTION)
     return 0
 

@@ -68,6 +68,10 @@ from lean_video.mechanics_params import (  # noqa: F401  (re-exported)
     check_cane,
     check_mass_kg,
 )
+#: Shortest zero-lean lever arm of body weight about the stance hip the model
+#: accepts: the lower bound of ``gravity_moment_arm_cm`` (mechanics_params).
+MIN_LEVER_ARM_CM = 1.0
+
 
 log = logging.getLogger(__name__)
 
@@ -231,10 +235,14 @@ def hip_model(
             f"got shape {drop.shape}; pass one value per lean value."
         ) from None
     out = _solve(lean_b, drop_b, cane_bw=cane_bw, cane_distance_cm=cane_cm, **p.arrays())
-    if np.any(out["zero_lean_lever_arm_cm"] <= 0):
+    shortest = float(np.min(out["zero_lean_lever_arm_cm"]))
+    if shortest < MIN_LEVER_ARM_CM:
+        # the shortening is a share of this arm: below the parameter's own lower
+        # bound it is no longer a lever arm the model describes
         raise LeanVideoError(
-            "gravity_moment_arm_cm must leave the supported weight medial to the stance hip "
-            "at zero lean; raise it or reduce pelvic_drop_deg."
+            f"the body weight's lever arm about the stance hip at zero lean must be at least "
+            f"{MIN_LEVER_ARM_CM:g} cm, got {shortest:.2f} cm (from gravity_moment_arm_cm, hip_spacing_cm and "
+            "pelvic_drop_deg); raise gravity_moment_arm_cm, or check the hip spacing and the pelvic drop given."
         )
     if not np.all(out["abductors_active"]):
         log.info(
@@ -329,7 +337,8 @@ def hip_model_table(
     )
     cols = res.as_dict()
     return [
-        {"lean_deg": float(leans[i]), **{k: float(v[i]) for k, v in cols.items()}}
+        {"lean_deg": float(leans[i]), **{k: float(v[i]) for k, v in cols.items()},
+         "abductors_active": bool(res.abductors_active[i])}
         for i in range(leans.size)
     ]
 

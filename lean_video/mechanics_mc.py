@@ -39,6 +39,7 @@ from lean_video.mechanics import (
     DROP_LIMIT_DEG,
     G_M_S2,
     LEAN_LIMIT_DEG,
+    MIN_LEVER_ARM_CM,
     NEWTON_NAMES,
     OUTPUT_NAMES,
     HipModelParams,
@@ -74,6 +75,16 @@ class McResult:
         5th / 95th percentile of each output name, arrays of shape (m,).
     n_draws, seed : int
         Draw count and generator seed.
+    n_dropped : int
+        Draws left out because their zero-lean lever arm was shorter than
+        :data:`lean_video.mechanics.MIN_LEVER_ARM_CM` (the body weight over or
+        beside the hip already upright: no lever the model describes).
+
+    Notes
+    -----
+    The band need not contain the nominal value: the lower-limb mass draw is
+    one-sided (from Winter's proportions toward de Leva's), so with a cane, for
+    example, the nominal hip force can lie at or just past the band's edge.
     ranges : dict[str, str]
         The sampling ranges (:data:`MC_RANGES`).
     """
@@ -85,6 +96,7 @@ class McResult:
     n_draws: int
     seed: int
     ranges: dict[str, str]
+    n_dropped: int = 0
 
 
 def draw_params(
@@ -165,6 +177,13 @@ def monte_carlo(
     rng = np.random.default_rng(int(seed))
     draws = draw_params(p, n_draws=int(n_draws), rng=rng)
     out = _solve(leans[None, :], drop, cane_bw=cane_bw, cane_distance_cm=cane_cm, **draws)
+    keep = np.all(np.broadcast_to(out["zero_lean_lever_arm_cm"], (int(n_draws), leans.size)) >= MIN_LEVER_ARM_CM,
+                  axis=1)
+    if keep.sum() < 0.5 * n_draws:
+        raise LeanVideoError(
+            f"in {int(n_draws - keep.sum())} of {n_draws} parameter draws the body weight lies over or beside the "
+            "stance hip at zero lean, so the band would mean nothing; check gravity_moment_arm_cm, hip_spacing_cm "
+            "and pelvic_drop_deg.")
     names = list(OUTPUT_NAMES)
     if mass_kg is not None:
         weight_n = check_mass_kg(mass_kg) * G_M_S2
@@ -174,10 +193,10 @@ def monte_carlo(
     p05: dict[str, np.ndarray] = {}
     p95: dict[str, np.ndarray] = {}
     for name in names:
-        grid = np.broadcast_to(out[name], (int(n_draws), leans.size))
+        grid = np.broadcast_to(out[name], (int(n_draws), leans.size))[keep]
         lo, hi = np.percentile(grid, [5.0, 95.0], axis=0)
         p05[name], p95[name] = lo, hi
     return McResult(
         lean_deg=leans, nominal=nominal, p05=p05, p95=p95, n_draws=int(n_draws),
-        seed=int(seed), ranges=dict(MC_RANGES),
+        seed=int(seed), ranges=dict(MC_RANGES), n_dropped=int(n_draws - keep.sum()),
     )

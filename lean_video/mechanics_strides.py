@@ -32,10 +32,14 @@ from lean_video.mechanics import (
     NEWTON_NAMES,
     OUTPUT_NAMES,
     HipModelParams,
+    check_mass_kg,
     hip_model,
 )
 
 log = logging.getLogger(__name__)
+
+#: Outputs that are forces (left empty where the model does not apply).
+FORCE_NAMES = ("abductor_force_bw", "hip_force_bw", "hip_force_change_pct", *NEWTON_NAMES)
 
 REQUIRED_COLUMNS = ("lean_mean_deg", "pelvic_drop_mean_deg")
 SIDES = ("left", "right")
@@ -95,29 +99,49 @@ def add_mechanics_columns(
         params = HipModelParams.from_body(DEFAULT_HEIGHT_M if height_m is None else height_m)
     if mass_kg is None:
         defaults_used.append("mass_kg")
+    else:
+        check_mass_kg(mass_kg)   # checked even when no stride has a lean
 
     out = strides.copy()
     lean = pd.to_numeric(out["lean_mean_deg"], errors="coerce").to_numpy(dtype=float)
     drop = pd.to_numeric(out["pelvic_drop_mean_deg"], errors="coerce").to_numpy(dtype=float)
-    ok = np.isfinite(lean) & np.isfinite(drop)
+    for name, values in (("lean_mean_deg", lean), ("pelvic_drop_mean_deg", drop)):
+        if np.isinf(values).any():
+            raise LeanVideoError(f"strides column {name} holds an infinite value; values must be finite or "
+                                 "missing (NaN); fix the gait table.")
+    ok = ~np.isnan(lean) & ~np.isnan(drop)
+    warnings: list[str] = []
     if not np.all(ok):
-        log.warning(
-            "hip model: %d of %d strides lack lean or pelvic drop; their hip-model columns are NaN",
-            int((~ok).sum()), ok.size,
-        )
+        warnings.append(f"hip model: {int((~ok).sum())} of {ok.size} phases lack a lean or pelvic drop; their "
+                        "hip-model columns are empty")
     names = list(OUTPUT_NAMES) + (list(NEWTON_NAMES) if mass_kg is not None else [])
     cols = {name: np.full(ok.size, np.nan) for name in names}
     if ok.any():
         res = hip_model(lean[ok], params=params, pelvic_drop_deg=drop[ok], mass_kg=mass_kg)
         for name, values in res.as_dict().items():
             cols[name][ok] = values
+        # With the body weight over or past the stance hip the abductors are not
+        # needed and the pelvis is held by adductors and passive structures, which
+        # the model leaves out: its forces would understate the load, so none are given.
+        idle = np.flatnonzero(ok)[~np.asarray(res.abductors_active, bool)]
+        if idle.size:
+            for name in names:
+                if name in FORCE_NAMES:
+                    cols[name][idle] = np.nan
+            warnings.append(
+                f"hip model: in {idle.size} of {ok.size} phases the lean put the body weight over or past the "
+                "stance hip, where the model (abductors holding the pelvis) does not apply; no hip or abductor "
+                "force is given for them")
     for name in names:
         out[name] = cols[name]
+    for w in warnings:
+        log.warning(w)
     out.attrs["mechanics"] = {
         "defaults_used": defaults_used,
         "height_m": params.height_m,
         "mass_kg": None if mass_kg is None else float(mass_kg),
         "caution": CAUTION,
+        "warnings": warnings,
     }
     return out
 

@@ -235,8 +235,19 @@ def analyse(
         measured = _stabilised(keypoints, camera.motion)
     result = gait_passes.analyse_walk(measured, width=width, height=height, camera_roll_deg=roll.roll_deg,
                                       cutoff_hz=options.cutoff_hz)
-    strides = mechanics.add_mechanics_columns(result.strides, mass_kg=options.mass_kg, height_m=options.height_m)
+    # The hip model takes the pelvic drop only where it was measured by the
+    # validated method (pelvis markers); otherwise a level pelvis, as for the
+    # 5-95 % band below (the drop enters the model only through cosines, so this
+    # changes the numbers by well under 1 %, but an unvalidated input must not
+    # feed a stated estimate, and a phase without a drop keeps its lean's estimate).
+    drop_used = result.summary.get("pelvic_obliquity_source") == "pelvis markers"
+    model_input = result.strides.copy()
+    model_input["pelvic_drop_mean_deg"] = (model_input["pelvic_drop_mean_deg"].fillna(0.0) if drop_used else 0.0)
+    strides = mechanics.add_mechanics_columns(model_input, mass_kg=options.mass_kg, height_m=options.height_m)
+    strides["pelvic_drop_mean_deg"] = result.strides["pelvic_drop_mean_deg"]
     mech_info = dict(strides.attrs.get("mechanics", {}))
+    mech_info["pelvic_drop_in_model"] = ("pelvic drop measured from the pelvis markers (level where a phase has "
+                                         "none)" if drop_used else "level pelvis (pelvic drop not validated)")
     strides.attrs = {}
     per_side = mechanics.summarise_mechanics(strides)
     summary = dict(result.summary)
@@ -263,6 +274,7 @@ def analyse(
             message = f"capture check '{check['name']}' failed: {check['detail']}; {check['suggestion']}"
             log.warning(message)
             quality.setdefault("warnings", []).append(message)
+    quality.setdefault("warnings", []).extend(mech_info.get("warnings", []))
     summary["quality"] = quality
     params = mechanics.HipModelParams.from_body(height_m=options.height_m or mechanics.DEFAULT_HEIGHT_M)
     curve = mechanics.lean_sweep(params=params, mass_kg=options.mass_kg)
