@@ -161,7 +161,12 @@ def _load_keypoints(input_path: Path, options: AnalysisOptions, *, cache_dir, pr
 
     if input_path.is_dir():
         table, clip = pose.read_handover(input_path)
-        return table, clip, None, {"source": "keypoints folder"}, ()
+        # the settings that made these keypoints, as the pose command recorded them
+        # (absent for keypoints from another source), not this run's pose options
+        made = clip.get("pose") if isinstance(clip.get("pose"), dict) else None
+        info = {"source": "keypoints folder",
+                "settings": (made or {}).get("settings", "not recorded (keypoints from another source)")}
+        return table, clip, None, info, ()
     from lean_video.capture import SCENE_SAMPLES
 
     settings = pose.PoseSettings(max_side_px=options.pose_max_side_px, workers=options.pose_workers,
@@ -264,7 +269,12 @@ def analyse(
     summary["clip"] = clip
     summary["pose"] = pose_info
     summary["version"] = __version__
-    summary["settings"] = {**summary.get("settings", {}), "analysis": asdict(options)}
+    analysis_options = asdict(options)
+    if video is None:
+        # pose options do not act on a keypoints folder; summary["pose"] says what made them
+        for name in ("pose_max_side_px", "pose_workers", "pose_mirror_average"):
+            analysis_options[name] = "not used (keypoints folder input)"
+    summary["settings"] = {**summary.get("settings", {}), "analysis": analysis_options}
     summary["mechanics"] = {**mech_info, "caution": mechanics.CAUTION}
     quality = dict(summary.get("quality") or {})
     quality["checks"] = capture.capture_checks(keypoints, clip, summary, extra=camera.checks)

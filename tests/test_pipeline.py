@@ -51,3 +51,30 @@ def test_pelvis_markers_need_a_video_or_a_folder_holding_them():
         _with_pelvis_markers(kp, None, "green")
     held = pd.concat([kp, kp.assign(landmark="left_pelvis_marker")], ignore_index=True)
     assert _with_pelvis_markers(held, None, "green") is held
+
+
+@pytest.mark.parametrize("recorded", [True, False])
+def test_keypoint_folder_provenance_names_what_made_the_keypoints(tmp_path, recorded):
+    # This run's pose options do not act on a keypoints folder: the summary must not
+    # claim them; it carries the settings the pose command recorded, if any.
+    import json
+
+    from lean_video import pipeline
+    try:
+        from tests.gait_walker import make_walk
+    except ImportError:  # tests/ not a package
+        from gait_walker import make_walk
+
+    w = make_walk(direction="toward", noise_px=0.5, seed=1)
+    folder = tmp_path / "kp"
+    folder.mkdir()
+    w.keypoints.to_csv(folder / "keypoints.csv", index=False)
+    clip = {"width": w.width, "height": w.height, "sha256": "c" * 64}
+    if recorded:
+        clip["pose"] = {"settings": {"max_side_px": 1280, "mirror_average": False}}
+    (folder / "clip.json").write_text(json.dumps(clip))
+    a = pipeline.analyse(folder, options=pipeline.AnalysisOptions(camera_roll_deg=0.0))
+    assert a.summary["settings"]["analysis"]["pose_mirror_average"] == "not used (keypoints folder input)"
+    made = a.summary["pose"]["settings"]
+    assert made == ({"max_side_px": 1280, "mirror_average": False} if recorded
+                    else "not recorded (keypoints from another source)")
