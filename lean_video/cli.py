@@ -59,7 +59,7 @@ def cmd_pose(args: argparse.Namespace) -> int:
 
         markers = pose_markers.track_pelvis_markers(args.clip, run.keypoints,
                                                     search=pose_markers.MarkerSearch(colour=args.pelvis_markers))
-    kp_path, clip_path = pose.write_handover(run, out, markers=markers)
+    kp_path, clip_path = pose.write_handover(run, out, markers=markers, marker_colour=args.pelvis_markers)
     share = 100.0 * run.n_detected / max(run.n_frames, 1)
     print(f"{run.n_frames} frames, person found in {run.n_detected} ({share:.1f}%, "
           f"{run.n_recovered} via enlarged crops); wrote {kp_path} and {clip_path}")

@@ -230,6 +230,8 @@ def analyse(
                                                                   progress=progress)
     width, height = int(clip["width"]), int(clip["height"])
     capture.require_upright(keypoints)
+    if video is None:
+        options = _folder_marker_colour(keypoints, clip, options)
     if options.pelvis_markers is not None:
         keypoints = _with_pelvis_markers(keypoints, video, options.pelvis_markers)
 
@@ -295,16 +297,37 @@ def analyse(
     return Analysis(result.frames, result.events, strides, _json_ready(summary), keypoints, video, curve)
 
 
+def _folder_marker_colour(keypoints: pd.DataFrame, clip: dict, options: AnalysisOptions) -> AnalysisOptions:
+    """The marker colour of a keypoints folder as its clip.json records it, so the provenance is true.
+
+    A folder whose table holds markers is analysed with them whatever the
+    option says; a colour given that differs from the recorded one is refused.
+    """
+    from dataclasses import replace
+
+    from lean_video import pose_markers
+
+    held = bool(keypoints["landmark"].isin(pose_markers.MARKER_NAMES).any())
+    recorded = clip.get("pelvis_markers")
+    if not held:
+        return options
+    if options.pelvis_markers is not None and recorded is not None and options.pelvis_markers != recorded:
+        raise LeanVideoError(f"this keypoints folder holds {recorded} pelvis markers, but --pelvis-markers "
+                             f"{options.pelvis_markers} was given; give {recorded}, or run 'lean-video pose' again "
+                             f"with --pelvis-markers {options.pelvis_markers}.")
+    return replace(options, pelvis_markers=options.pelvis_markers or recorded or "recorded in keypoints (colour not stated)")
+
+
 def _with_pelvis_markers(keypoints: pd.DataFrame, video: Path | None, colour: str) -> pd.DataFrame:
     """The keypoint table with the two pelvis markers found in the clip."""
     from lean_video import pose_markers
 
-    search = pose_markers.MarkerSearch(colour=colour)
     if video is None:
         if keypoints["landmark"].isin(pose_markers.MARKER_NAMES).any():
             return keypoints  # a hand-over folder that already holds the markers
         raise LeanVideoError("pelvis markers can only be searched for in a video, and this keypoints folder "
                              "holds none; analyse the video itself, or leave out --pelvis-markers.")
+    search = pose_markers.MarkerSearch(colour=colour)
     keypoints = keypoints[~keypoints["landmark"].isin(pose_markers.MARKER_NAMES)]
     rows = pose_markers.track_pelvis_markers(video, keypoints, search=search)
     seen = int((rows.loc[rows["landmark"] == pose_markers.MARKER_NAMES[0], "visibility"] > 0).sum())

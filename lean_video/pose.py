@@ -37,6 +37,7 @@ from __future__ import annotations
 
 import json
 import logging
+import math
 import os
 from dataclasses import asdict, dataclass, field
 from pathlib import Path
@@ -79,6 +80,9 @@ COLUMNS = ("frame", "time_s", "landmark", "x_px", "y_px", "z", "visibility", "pr
 #: detections in the background and the clip as empty (engineering choice:
 #: a client who leaves half-way still gives 50 %).
 MIN_FOUND_FRACTION = 0.1
+#: Share of the declared frames that may fail to decode before the file counts as truncated
+#: (common practice, no source: a phone clip decodes completely; 2 % already warns).
+MAX_LOST_FRACTION = 0.1
 
 
 @dataclass(frozen=True)
@@ -319,30 +323,43 @@ def _to_table(times: np.ndarray, data: np.ndarray) -> pd.DataFrame:
     })
 
 
+def _n_parts(info: ClipInfo, settings: PoseSettings) -> int:
+    """How many ranges the clip is tracked in: the split changes the keypoints near the joins, so it keys the cache."""
+    workers = settings.workers or min(2, os.cpu_count() or 1)
+    return len(_split_points(info, workers, settings.overlap_s, settings.min_split_duration_s)) + 1
+
+
+def _cache_key(info: ClipInfo, settings: PoseSettings) -> str:
+    return f"{settings.key()}-p{_n_parts(info, settings)}"
+
+
 def _cache_paths(cache_dir: Path, sha: str, key: str) -> tuple[Path, Path]:
     stem = cache_dir / f"{sha[:24]}-{key}"
     return stem.with_suffix(".npz"), stem.with_suffix(".json")
 
 
 def _load_cache(cache_dir: Path, info: ClipInfo, settings: PoseSettings) -> PoseRun | None:
-    npz, meta = _cache_paths(cache_dir, info.sha256, settings.key())
+    npz, meta = _cache_paths(cache_dir, info.sha256, _cache_key(info, settings))
     if not (npz.exists() and meta.exists()):
         return None
     try:
         with np.load(npz) as f:
-            times, data = f["time_s"], f["data"]
+            times, data = np.asarray(f["time_s"], float), np.asarray(f["data"], float)
         stats = json.loads(meta.read_text())
-    except (OSError, ValueError, KeyError) as exc:
+        if times.ndim != 1 or data.shape != (len(times), N_LANDMARKS, 5) or len(times) == 0:
+            raise ValueError(f"arrays of shapes {times.shape} and {data.shape}")
+        counts = [int(stats[k]) for k in ("n_frames", "n_detected", "n_recovered")]
+        table = _to_table(times, data)
+    except Exception as exc:  # noqa: BLE001 - any damage to an optimisation: recompute
         log.warning("ignoring unreadable keypoint cache %s: %s", npz.name, exc)
         return None
-    table = _to_table(times, data)
-    return PoseRun(table, info, settings, stats["n_frames"], stats["n_detected"], stats["n_recovered"], True, stats)
+    return PoseRun(table, info, settings, *counts, True, stats)
 
 
 def _save_cache(cache_dir: Path, info: ClipInfo, settings: PoseSettings, times, data, stats: dict) -> None:
     try:
         cache_dir.mkdir(parents=True, exist_ok=True)
-        npz, meta = _cache_paths(cache_dir, info.sha256, settings.key())
+        npz, meta = _cache_paths(cache_dir, info.sha256, _cache_key(info, settings))
         tmp = npz.with_name(npz.stem + f".{os.getpid()}.tmp.npz")
         np.savez_compressed(tmp, time_s=times, data=data)
         os.replace(tmp, npz)
@@ -407,6 +424,11 @@ def run_pose(
     n_detected = int(found.sum())
     recovered = int(recovered_flags.sum())
     lost = max(info.frame_count - len(times), 0)
+    if lost > max(2, MAX_LOST_FRACTION * info.frame_count):
+        # a cut-off file would otherwise give results from part of the walk without saying so
+        raise LeanVideoError(
+            f"only {len(times)} of the {info.frame_count} frames '{Path(path).name}' declares could be decoded: "
+            "the file is truncated or damaged; copy or export the clip from the phone again.")
     if lost > max(2, 0.02 * info.frame_count):
         log.warning("only %d of %d declared frames could be decoded (%d lost): the file may be truncated",
                     len(times), info.frame_count, lost)
@@ -415,7 +437,8 @@ def run_pose(
             f"Nobody was found in '{Path(path).name}' (a person in {n_detected} of {len(times)} frames); film the "
             "client's whole body, head to feet, walking toward the camera in good light."
         )
-    stats = {"n_frames": int(len(times)), "n_detected": n_detected, "n_recovered": recovered, "frames_lost": int(lost)}
+    stats = {"n_frames": int(len(times)), "n_detected": n_detected, "n_recovered": recovered, "frames_lost": int(lost),
+             "n_parts": _n_parts(info, settings)}
     log.info("pose: %d frames, person in %d (%d found by enlarged crops)", len(times), n_detected, recovered)
     if use_cache:
         _save_cache(cache, info, settings, times, data, stats)
@@ -430,7 +453,7 @@ def estimate_pose(path: str | os.PathLike, **kwargs) -> pd.DataFrame:
 
 
 def write_handover(run: PoseRun, out_dir: str | os.PathLike, *,
-                   markers: pd.DataFrame | None = None) -> tuple[Path, Path]:
+                   markers: pd.DataFrame | None = None, marker_colour: str | None = None) -> tuple[Path, Path]:
     """Write ``keypoints.csv`` and ``clip.json``, the documented hand-over pair.
 
     ``markers`` (rows from :func:`lean_video.pose_markers.track_pelvis_markers`)
@@ -439,6 +462,8 @@ def write_handover(run: PoseRun, out_dir: str | os.PathLike, *,
     out = Path(out_dir)
     clip = {k: v for k, v in run.clip.to_dict().items() if k != "path"}
     clip["pose"] = {"settings": asdict(run.settings), **run.stats}
+    # which markers (if any) the table holds, so an analysis cannot claim another colour
+    clip["pelvis_markers"] = None if markers is None else marker_colour
     kp_path, clip_path = out / "keypoints.csv", out / "clip.json"
     table = run.keypoints if markers is None else pd.concat([run.keypoints, markers], ignore_index=True)
     atomic_write_text(kp_path, table.to_csv(index=False, float_format="%.4f"))
@@ -466,16 +491,32 @@ def read_handover(folder: str | os.PathLike) -> tuple[pd.DataFrame, dict]:
     except (ValueError, OSError) as exc:
         raise LeanVideoError(f"Could not read the keypoint folder '{folder.name}': {exc}; write it again with "
                              "'lean-video pose'.") from None
+    if not isinstance(clip, dict):
+        raise LeanVideoError(f"clip.json must hold one JSON object (width, height, sha256, ...), got a "
+                             f"{type(clip).__name__}; write it again with 'lean-video pose'.")
     missing = [c for c in COLUMNS if c not in table.columns]
     if missing:
         raise LeanVideoError(f"keypoints.csv lacks the column(s) {', '.join(missing)}; the columns must be "
                              f"{', '.join(COLUMNS)}.")
+    if table["landmark"].isna().any():
+        raise LeanVideoError("keypoints.csv has rows without a landmark name; every row needs one of the 33 "
+                             "BlazePose names.")
+    for col in ("frame", "time_s", "x_px", "y_px", "z", "visibility", "presence"):
+        values = pd.to_numeric(table[col], errors="coerce")
+        if (values.isna() & table[col].notna()).any():
+            raise LeanVideoError(f"keypoints.csv column {col} holds text where numbers belong; write the folder "
+                                 "again with 'lean-video pose'.")
+        table[col] = values
+    if table.duplicated(["frame", "landmark"]).any():
+        raise LeanVideoError("keypoints.csv repeats a landmark within a frame; each (frame, landmark) pair must "
+                             "appear once.")
     unknown = sorted(set(table["landmark"].astype(str)) - set(LANDMARK_NAMES) - set(MARKER_NAMES))
     if unknown:
         raise LeanVideoError(f"keypoints.csv has unknown landmark name(s) {', '.join(unknown[:3])}; use the 33 "
                              "BlazePose names (nose, left_shoulder, ...) and, for pelvis markers, "
                              f"{' and '.join(MARKER_NAMES)}.")
     for key in ("width", "height"):
-        if not isinstance(clip.get(key), (int, float)) or clip[key] <= 0:
-            raise LeanVideoError(f"clip.json needs a positive '{key}' in pixels; {clip.get(key)!r} was given.")
+        v = clip.get(key)
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v) or v <= 0:
+            raise LeanVideoError(f"clip.json needs a positive '{key}' in pixels; {v!r} was given.")
     return table, clip

@@ -78,3 +78,18 @@ def test_keypoint_folder_provenance_names_what_made_the_keypoints(tmp_path, reco
     made = a.summary["pose"]["settings"]
     assert made == ({"max_side_px": 1280, "mirror_average": False} if recorded
                     else "not recorded (keypoints from another source)")
+
+
+def test_keypoint_folder_markers_keep_their_recorded_colour():
+    import pandas as pd
+
+    from lean_video.pipeline import AnalysisOptions, _folder_marker_colour
+
+    kp = pd.DataFrame({"landmark": ["left_hip", "left_pelvis_marker"]})
+    assert _folder_marker_colour(kp, {"pelvis_markers": "green"}, AnalysisOptions()).pelvis_markers == "green"
+    with pytest.raises(LeanVideoError, match="holds green pelvis markers, but --pelvis-markers blue was given"):
+        _folder_marker_colour(kp, {"pelvis_markers": "green"}, AnalysisOptions(pelvis_markers="blue"))
+    unstated = _folder_marker_colour(kp, {}, AnalysisOptions())
+    assert unstated.pelvis_markers == "recorded in keypoints (colour not stated)"
+    plain = pd.DataFrame({"landmark": ["left_hip"]})
+    assert _folder_marker_colour(plain, {"pelvis_markers": None}, AnalysisOptions()).pelvis_markers is None

@@ -137,3 +137,54 @@ def test_pose_reexports_the_model_names():
                  "detect_still", "second_person"):
         assert getattr(pose, name) is getattr(pose_model, name), name
         assert name in pose.__all__, name
+
+
+@pytest.mark.slow
+def test_truncated_clip_refused_not_analysed_in_part(tmp_path):
+    # A file cut off at 30 % of its bytes decoded a third of its frames, and the run
+    # went on with them (review of 2026-12-03).
+    src = (DEMO / f"{FRONTAL}.mp4").read_bytes()
+    cut = tmp_path / "cut.mp4"
+    cut.write_bytes(src[: int(0.3 * len(src))])
+    with pytest.raises(LeanVideoError, match=r"only 77 of the 220 frames .* the file is truncated or damaged"):
+        pose.run_pose(cut, use_cache=False)
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("damage", ["empty_npz", "empty_meta", "wrong_shape"])
+def test_damaged_cache_is_recomputed(frontal_run, tmp_path, damage):
+    run, _ = frontal_run
+    cache = tmp_path / "cache"
+    pose.run_pose(DEMO / f"{FRONTAL}.mp4", cache_dir=cache)
+    npz = next(cache.glob("*.npz"))
+    meta = npz.with_suffix(".json")
+    if damage == "empty_npz":
+        npz.write_bytes(b"")
+    elif damage == "empty_meta":
+        meta.write_text("{}")
+    else:
+        np.savez_compressed(npz, time_s=np.zeros(3), data=np.zeros((3, 2, 5)))
+    again = pose.run_pose(DEMO / f"{FRONTAL}.mp4", cache_dir=cache)
+    assert not again.from_cache
+    pd.testing.assert_frame_equal(again.keypoints, run.keypoints)
+
+
+@pytest.mark.parametrize("change, match", [
+    (lambda kp, clip: (kp, [1, 2]), "clip.json must hold one JSON object"),
+    (lambda kp, clip: (pd.concat([kp, kp.iloc[:1]]), clip), "repeats a landmark within a frame"),
+    (lambda kp, clip: (kp.assign(x_px=["a"] + list(kp["x_px"].iloc[1:])), clip), "column x_px holds text"),
+    (lambda kp, clip: (kp.assign(landmark=[None] + list(kp["landmark"].iloc[1:])), clip), "rows without a landmark"),
+    (lambda kp, clip: (kp, {**clip, "width": True}), "needs a positive 'width'"),
+    (lambda kp, clip: (kp, {**clip, "width": float("nan")}), "needs a positive 'width'"),
+])
+def test_bad_keypoint_folders_named(tmp_path, change, match):
+    import json
+
+    kp = pd.DataFrame({"frame": [0, 0], "time_s": [0.0, 0.0], "landmark": ["left_hip", "right_hip"],
+                       "x_px": [1.0, 2.0], "y_px": [3.0, 4.0], "z": [0.0, 0.0], "visibility": [1.0, 1.0],
+                       "presence": [1.0, 1.0]})
+    kp, clip = change(kp, {"width": 720, "height": 1280})
+    kp.to_csv(tmp_path / "keypoints.csv", index=False)
+    (tmp_path / "clip.json").write_text(json.dumps(clip).replace("NaN", "NaN"))
+    with pytest.raises(LeanVideoError, match=match):
+        pose.read_handover(tmp_path)
