@@ -217,6 +217,20 @@ def test_demo_runs_with_network_blocked(tmp_path):
         assert_no_external_reference(page.read_text(encoding="utf-8"))
 
 
+def _check_command_runs(monkeypatch, func) -> None:
+    """Make ``lean-video check`` run ``func(args)`` instead of the real command."""
+    from lean_video import cli
+
+    parser = cli.build_parser
+
+    def patched():
+        p = parser()
+        p._subparsers._group_actions[0].choices["check"].set_defaults(func=func)
+        return p
+
+    monkeypatch.setattr(cli, "build_parser", patched)
+
+
 @pytest.mark.parametrize("late", [BrokenPipeError("worker pipe"), RuntimeError("pool broken")])
 def test_ctrl_c_that_breaks_a_worker_pipe_still_exits_130(monkeypatch, capsys, late):
     # Ctrl-C also stops the pose workers; shutting them down can raise a second
@@ -229,14 +243,7 @@ def test_ctrl_c_that_breaks_a_worker_pipe_still_exits_130(monkeypatch, capsys, l
         except KeyboardInterrupt:
             raise late
 
-    parser = cli.build_parser
-
-    def patched():
-        p = parser()
-        p._subparsers._group_actions[0].choices["check"].set_defaults(func=interrupted_then_broken)
-        return p
-
-    monkeypatch.setattr(cli, "build_parser", patched)
+    _check_command_runs(monkeypatch, interrupted_then_broken)
     assert cli.main(["check", "whatever.mp4"]) == 130
     assert "interrupted" in capsys.readouterr().err
 
@@ -312,14 +319,7 @@ def test_interrupt_after_the_session_was_stored_says_so(monkeypatch, capsys):
         args.stored_session = 7
         raise KeyboardInterrupt
 
-    parser = cli.build_parser
-
-    def patched():
-        p = parser()
-        p._subparsers._group_actions[0].choices["check"].set_defaults(func=stored_then_interrupted)
-        return p
-
-    monkeypatch.setattr(cli, "build_parser", patched)
+    _check_command_runs(monkeypatch, stored_then_interrupted)
     assert cli.main(["check", "whatever.mp4"]) == 130
     err = capsys.readouterr().err
     assert "the analysis was stored (session 7)" in err and "nothing was stored" not in err
