@@ -129,11 +129,14 @@ class PoseSettings:
     mirror_tolerance: float = 0.05
 
     def key(self) -> str:
-        """Short stable hash of the settings that change results, and the model version."""
+        """Short stable hash of the settings that change results, and the model and software versions."""
         from importlib.metadata import version
 
+        import lean_video
+
         fields = {k: v for k, v in asdict(self).items() if k not in ("workers", "min_split_duration_s")}
-        text = json.dumps({**fields, "mediapipe": version("mediapipe"), "fmt": _CACHE_FORMAT}, sort_keys=True)
+        text = json.dumps({**fields, "mediapipe": version("mediapipe"), "lean_video": lean_video.__version__,
+                           "fmt": _CACHE_FORMAT}, sort_keys=True)
         return hashlib.sha256(text.encode()).hexdigest()[:16]
 
 

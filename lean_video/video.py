@@ -298,7 +298,12 @@ def sample_frames(path: str | os.PathLike, *, n: int,
 
 
 def frames_at(path: str | os.PathLike, times_s: dict[int, float]) -> dict[int, np.ndarray]:
-    """The upright RGB frames shown at given presentation times, found by seeking.
+    """The upright RGB frames shown at given presentation times.
+
+    Each frame is found by seeking a little before its time and decoding
+    forward. OpenCV's seek can land after the wanted time on a variable
+    frame rate clip (it converts the time to a frame number with the average
+    rate); the frames it overshot are then found in one sequential pass.
 
     Parameters
     ----------
@@ -310,9 +315,10 @@ def frames_at(path: str | os.PathLike, times_s: dict[int, float]) -> dict[int, n
     Returns
     -------
     dict
-        Key -> RGB frame, for every time that was found.
+        Key -> RGB frame, for every time that was found (within 1 ms).
     """
-    out = {}
+    out: dict[int, np.ndarray] = {}
+    overshot: dict[int, float] = {}
     cap = _open_capture(Path(path))
     try:
         for key, t in sorted(times_s.items(), key=lambda kv: kv[1]):
@@ -328,6 +334,31 @@ def frames_at(path: str | os.PathLike, times_s: dict[int, float]) -> dict[int, n
                     if abs(now - t) <= 1e-3:
                         out[key] = to_rgb(bgr)
                     break
+            if key not in out:
+                overshot[key] = t
+    finally:
+        cap.release()
+    if overshot:
+        log.debug("seeking missed %d of %d frames; reading them in order", len(overshot), len(times_s))
+        out.update(_frames_in_order(Path(path), overshot))
+    return out
+
+
+def _frames_in_order(path: Path, times_s: dict[int, float]) -> dict[int, np.ndarray]:
+    """Frames at given times by decoding from the start (``grab`` skips conversion)."""
+    pending = sorted(times_s.items(), key=lambda kv: kv[1])
+    out = {}
+    cap = _open_capture(path)
+    try:
+        while pending and cap.grab():
+            now = float(cap.get(cv2.CAP_PROP_POS_MSEC)) / 1000.0
+            while pending and pending[0][1] < now - 1e-3:
+                pending.pop(0)      # no frame at that time
+            if pending and abs(now - pending[0][1]) <= 1e-3:
+                ok, bgr = cap.retrieve()
+                if ok and bgr is not None:
+                    out[pending[0][0]] = to_rgb(bgr)
+                pending.pop(0)
     finally:
         cap.release()
     return out

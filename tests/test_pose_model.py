@@ -66,3 +66,13 @@ def test_mirror_average_is_part_of_the_cache_key():
 
     assert PoseSettings().mirror_average is True
     assert PoseSettings().key() != PoseSettings(mirror_average=False).key()
+
+
+def test_software_version_is_part_of_the_cache_key(monkeypatch):
+    """Keypoints cached by another lean_video version are not reused (its pose code may differ)."""
+    import lean_video
+    from lean_video.pose_model import PoseSettings
+
+    before = PoseSettings().key()
+    monkeypatch.setattr(lean_video, "__version__", lean_video.__version__ + ".post1")
+    assert PoseSettings().key() != before

@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 
 from lean_video.errors import LeanVideoError
-from lean_video.video import file_sha256, iter_frames, probe_clip
+from lean_video.video import file_sha256, frames_at, iter_frames, probe_clip
 from tests.conftest import ffmpeg
 
 
@@ -74,6 +74,26 @@ def test_variable_frame_rate_times_come_from_timestamps(tmp_path):
     np.testing.assert_allclose(times, expected, atol=0.0011)
     # And index / fps would have been wrong by more than a frame somewhere.
     assert np.max(np.abs(n / probe_clip(clip).fps - expected)) > 0.01
+
+
+def test_frames_at_finds_every_frame_of_a_clip_that_changes_frame_rate(tmp_path):
+    """Seeking by time overshoots on a 30 -> 60 fps clip; every frame must still be found.
+
+    Reference: the frames decoded in order (iter_frames) at the same times.
+    """
+    clip = tmp_path / "vfr3060.mp4"
+    ffmpeg("-f", "lavfi", "-i", "testsrc2=size=320x240:rate=60", "-t", "4",
+           "-vf", "select='lt(t\\,2)*not(mod(n\\,2))+gte(t\\,2)',settb=1/1000,setpts='PTS'",
+           "-fps_mode", "passthrough", "-enc_time_base", "1/1000", "-video_track_timescale", "1000",
+           "-c:v", "libx264", "-g", "30", "-pix_fmt", "yuv420p", str(clip))
+    in_order = list(iter_frames(clip))
+    steps = np.diff([t for _, t, _ in in_order])
+    assert steps.max() > 0.03 and steps.min() < 0.02       # the clip really changes rate
+    wanted = {i: t for i, t, _ in in_order[::5]}
+    found = frames_at(clip, wanted)
+    assert sorted(found) == sorted(wanted)
+    for i in wanted:
+        np.testing.assert_array_equal(found[i], in_order[i][2])
 
 
 def test_hevc_clip(clip_factory):
