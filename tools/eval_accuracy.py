@@ -83,11 +83,15 @@ def marker_colour(truth: dict) -> str | None:
     return "green" if truth["walk"].get("pelvis_marker_rgb") is not None else None
 
 
-def evaluate(name: str, *, mirror: bool = True) -> dict:
+def evaluate(name: str, *, mirror: bool = True, video: Path | None = None, pictures: bool = False) -> dict:
+    """Compare the analysis of clip ``name`` (or of ``video``, a re-encoding of it) with its truth.
+
+    With ``pictures``, the row also names the sides whose peak-lean picture was found.
+    """
     from lean_video import pipeline
 
     truth = json.loads((DEMO / f"{name}.truth.json").read_text())
-    analysis = pipeline.analyse(DEMO / f"{name}.mp4",
+    analysis = pipeline.analyse(video if video is not None else DEMO / f"{name}.mp4",
                                 options=pipeline.AnalysisOptions(pose_mirror_average=mirror,
                                                                  pelvis_markers=marker_colour(truth)))
     s = analysis.summary
@@ -128,6 +132,9 @@ def evaluate(name: str, *, mirror: bool = True) -> dict:
         row[f"{kind}_median_ms"] = float(np.median(np.abs(errs))) if errs else None
         row[f"{kind}_max_ms"] = float(np.max(np.abs(errs))) if errs else None
         row[f"{kind}_bias_ms"] = float(np.median(errs)) if errs else None
+    row["n_frames"] = len(analysis.frames)
+    if pictures:
+        row["pictures"] = sorted(pipeline.peak_pictures(analysis))
     return row
 
 
