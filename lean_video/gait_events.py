@@ -321,12 +321,14 @@ def _extrapolate_edge(time_s, d, i, step, t_cross, level):
     return float(np.clip(t_level, t_cross - dt, t_cross) if step > 0 else np.clip(t_level, t_cross, t_cross + dt))
 
 
-def _rest_points(track, side, intervals):
+def _rest_points(track, time_s, side, intervals):
     """Per contact interval and foot point: (interval index, name, seen, p, step, still).
 
     ``seen`` are the frames with the point tracked, ``p`` its positions there,
-    ``step`` the frame-to-frame moves and ``still`` the third of the samples
-    with the smallest moves (the point at rest).
+    ``step`` its image speed between consecutive tracked frames (moves divided
+    by their time, so a frame dropped by the phone or lost by the tracker
+    does not make a move look twice as large) and ``still`` the third of the
+    samples with the smallest speeds (the point at rest).
     """
     names = [PAIRS[p][0 if side == "left" else 1] for p in FOOT_POINTS]
     for k_iv, (t_s, t_o, i0, i1, s_seen, o_seen) in enumerate(intervals):
@@ -335,7 +337,7 @@ def _rest_points(track, side, intervals):
             if len(seen) < 4:
                 continue
             p = track[name][seen]
-            step = np.linalg.norm(np.diff(p, axis=0), axis=1)
+            step = np.linalg.norm(np.diff(p, axis=0), axis=1) / np.diff(time_s[seen])
             still = np.sort(np.argsort(step)[: max(2, len(step) // 3)])
             yield k_iv, name, seen, p, step, still
 
@@ -362,7 +364,7 @@ def rest_noise(
     spread, jitter : float
     """
     about_median, about_line = [], []
-    for _, _, seen, p, _, still in _rest_points(track, side, intervals):
+    for _, _, seen, p, _, still in _rest_points(track, time_s, side, intervals):
         scale = scale_px[seen[still]]
         about_median.append(np.linalg.norm(p[still] - np.median(p[still], axis=0), axis=1) / scale)
         if len(still) >= 4:
@@ -414,7 +416,7 @@ def refine_event_times(
     """
     rel_res = []
     prints = [{} for _ in intervals]
-    for k_iv, name, seen, p, step, still in _rest_points(track, side, intervals):
+    for k_iv, name, seen, p, step, still in _rest_points(track, time_s, side, intervals):
         # separate footprints for arrival and departure: marker-like points
         # drift slowly while the foot rolls over, which is not a foot off
         half = len(step) // 2

@@ -290,7 +290,9 @@ def test_a_phone_that_drops_frames(name, tmp_path):
     Times come from the container's timestamps, never from frame index / rate: read by
     index, the clip would be 7 % short and late events off by up to 0.4 s. Measured
     (2026-12-03): every phase found on both; lean within 0.3 deg; event medians 21-31 ms.
-    With one frame in 4.5 dropped (22 %), walking away lost 2 of 8 phases (not tested).
+    With 22 % dropped (one in 7 and one in 11), not tested: walking toward every phase
+    found on two clips (event medians up to 46 ms); walking away 7 of 8 and 7 of 7
+    (medians up to 64 ms; 6 of 8 before footprint stillness was judged by speed).
     """
     from tests.conftest import ffmpeg
     from tools.eval_accuracy import DEMO

@@ -793,3 +793,18 @@ def test_table_errors_name_what_is_wrong():
     bad_frame.loc[5, "frame"] = np.nan
     with pytest.raises(LeanVideoError, match="frame must hold whole frame numbers"):
         analyse_keypoints(bad_frame, width=w.width, height=w.height)
+
+
+def test_rest_points_use_speed_so_dropped_frames_do_not_look_like_motion():
+    # A foot point creeping at a steady 6 px/s; the phone dropped three frames. The
+    # moves across the holes are twice and three times as long, but the speed is the
+    # same: the point is equally still throughout, so every sample can be "at rest".
+    from lean_video.gait_events import _rest_points
+
+    t = np.delete(np.arange(0, 2, 1 / 30), [20, 33, 34])
+    track = _resting_foot(t)
+    for name in ("left_heel", "left_ankle", "left_foot_index"):
+        track[name][:, 1] = 700.0 + 6.0 * t
+    iv = [(0.0, t[-1], 0, len(t), True, True)]
+    for _, name, seen, p, speed, still in _rest_points(track, t, "left", iv):
+        assert speed == pytest.approx(np.full(len(t) - 1, 6.0), rel=1e-9)
