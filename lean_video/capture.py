@@ -425,7 +425,8 @@ def quick_check(path: str | Path, *, n_samples: int = QUICK_SAMPLES, pelvis_mark
             rows.append((index, time_s, name, *values))
     keypoints = pd.DataFrame(rows, columns=list(pose.COLUMNS))
     clip = {k: v for k, v in info.to_dict().items() if k != "path"}
-    checks = keypoint_checks(keypoints, clip)
+    checks = [file_check(info.frame_count, [index for index, _, _ in samples], n_samples=n_samples)]
+    checks.extend(keypoint_checks(keypoints, clip))
     checks.append(direction_check(keypoints, None))
     try:
         checks.extend(camera_setup(Path(path), keypoints, user_roll_deg=None, samples=samples,
@@ -435,6 +436,33 @@ def quick_check(path: str | Path, *, n_samples: int = QUICK_SAMPLES, pelvis_mark
     if pelvis_markers is not None:
         checks.append(sampled_marker_check(Path(path), keypoints, pelvis_markers))
     return {"clip": clip, "checks": checks, "not_checked": ["phases_per_side"]}
+
+
+def file_check(frame_count: int, sampled: list[int], *, n_samples: int) -> dict:
+    """Does the file decode to its end? A copy cut short would otherwise pass the quick check.
+
+    ``sampled`` holds the indices that :func:`lean_video.video.sample_frames`
+    returned. When decoding stopped early, the frames lost are at least those
+    from the first sample that did not come back to the declared end; graded
+    with the same limit as the full analysis
+    (:data:`lean_video.pose.MAX_LOST_FRACTION`, which refuses the clip).
+    """
+    from lean_video.pose import MAX_LOST_FRACTION
+    from lean_video.video import sample_indices
+
+    wanted = sample_indices(frame_count, n=n_samples)
+    got = set(sampled)
+    missing = [i for i in wanted if i not in got]
+    if not missing:
+        return _check("file", "pass", 0, f"decodes to its last declared frame ({frame_count} frames)", "")
+    # decoding that stopped early loses every sample from some point on; a lone bad frame loses one
+    after_last_good = 1 + max((k for k, i in enumerate(wanted) if i in got), default=-1)
+    lost_at_least = frame_count - wanted[after_last_good] if after_last_good < len(wanted) else len(missing)
+    status = "fail" if lost_at_least > max(2, MAX_LOST_FRACTION * frame_count) else "warn"
+    return _check("file", status, int(lost_at_least),
+                  f"{len(missing)} of {len(wanted)} sampled frames could not be decoded; at least "
+                  f"{lost_at_least} of the {frame_count} declared frames are missing (the file looks cut short "
+                  "or damaged)", "copy or export the clip from the phone again")
 
 
 def sampled_marker_check(path: Path, keypoints: pd.DataFrame, colour: str) -> dict:

@@ -175,7 +175,7 @@ def _load_keypoints(input_path: Path, options: AnalysisOptions, *, cache_dir, pr
                         n_samples=SCENE_SAMPLES)
     clip = {k: v for k, v in run.clip.to_dict().items() if k != "path"}
     info = {"source": "video", "model": "BlazePose full (mediapipe 0.10.21)", "settings": asdict(settings),
-            "from_cache": run.from_cache, **run.stats}
+            "settings_key": settings.key(), "from_cache": run.from_cache, **run.stats}
     return run.keypoints, clip, input_path, info, run.samples
 
 
@@ -235,7 +235,7 @@ def analyse(
     if options.pelvis_markers is not None:
         keypoints = _with_pelvis_markers(keypoints, video, options.pelvis_markers)
 
-    camera = _camera_setup(video, keypoints, options, samples, clip, cache_dir)
+    camera = _camera_setup(video, keypoints, options, samples, clip, cache_dir, pose_info.get("settings_key", ""))
     roll = camera.roll
     measured = keypoints
     if camera.motion is not None:
@@ -341,11 +341,15 @@ def _with_pelvis_markers(keypoints: pd.DataFrame, video: Path | None, colour: st
     return pd.concat([keypoints, rows], ignore_index=True)
 
 
-def _camera_setup(video, keypoints, options: AnalysisOptions, samples, clip: dict, cache_dir) -> Any:
+def _camera_setup(video, keypoints, options: AnalysisOptions, samples, clip: dict, cache_dir,
+                  pose_key: str) -> Any:
     """Camera roll and motion, from the scene cache when this clip was seen before.
 
     Only the scene's answers are cached (roll, still camera, lighting, other
-    people), never pictures; a hand-held clip is measured again each time.
+    people), never pictures; a hand-held clip is measured again each time. The
+    answers depend on where the person is (their region is left out of the
+    background), so the cache is keyed by the pose settings and software
+    version (``pose_key``) as well as the clip.
     """
     from lean_video import capture
     from lean_video.pose import default_cache_dir
@@ -353,7 +357,7 @@ def _camera_setup(video, keypoints, options: AnalysisOptions, samples, clip: dic
     cache_file = None
     if video is not None and clip.get("sha256"):
         folder = Path(cache_dir) if cache_dir is not None else default_cache_dir()
-        cache_file = folder / f"scene-{clip['sha256'][:24]}-{SCENE_CACHE_FORMAT}.json"
+        cache_file = folder / f"scene-{clip['sha256'][:24]}-{pose_key}-{SCENE_CACHE_FORMAT}.json"
         try:
             data = json.loads(cache_file.read_text())
             return capture.CameraSetup.from_cache(data, user_roll_deg=options.camera_roll_deg)

@@ -267,6 +267,12 @@ def to_rgb(bgr: np.ndarray, *, max_side_px: int | None = None) -> np.ndarray:
     return cv2.cvtColor(bgr, cv2.COLOR_BGR2RGB)
 
 
+def sample_indices(frame_count: int, *, n: int) -> list[int]:
+    """The frame indices :func:`sample_frames` asks for: about ``n``, evenly spread, first and last included."""
+    total = max(int(frame_count), 1)
+    return sorted(set(np.linspace(0, total - 1, num=min(n, total)).round().astype(int).tolist()))
+
+
 def sample_frames(path: str | os.PathLike, *, n: int,
                   max_side_px: int | None = None) -> list[tuple[int, float, np.ndarray]]:
     """About ``n`` frames spread evenly over a clip, as ``(index, time_s, rgb)``.
@@ -277,8 +283,7 @@ def sample_frames(path: str | os.PathLike, *, n: int,
     if n < 1:
         raise LeanVideoError(f"n must be at least 1 frame; {n} was given.")
     info = probe_clip(path, min_duration_s=0.0)
-    total = max(info.frame_count, 1)
-    wanted = set(np.linspace(0, total - 1, num=min(n, total)).round().astype(int).tolist())
+    wanted = set(sample_indices(info.frame_count, n=n))
     cap = _open_capture(Path(path))
     out = []
     try:

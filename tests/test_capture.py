@@ -208,3 +208,32 @@ def test_quick_check_sees_the_pelvis_markers():
     wrong = _by_name(capture.quick_check(clip, pelvis_markers="pink"))["pelvis_markers"]
     assert wrong["status"] == "fail" and "check the colour given" in wrong["suggestion"]
     assert "pelvis_markers" not in _by_name(capture.quick_check(clip))
+
+
+@pytest.mark.parametrize(
+    ("frame_count", "sampled", "status", "lost"),
+    [
+        (100, [0, 25, 50, 74, 99], "pass", 0),       # every sample decoded
+        (100, [0, 25, 74, 99], "warn", 1),           # one bad frame in the middle, the end is there
+        (100, [0, 25, 50, 74], "warn", 1),           # only the last frame missing: at least 1 lost
+        (100, [0, 25, 50], "fail", 26),              # stopped before frame 74: at least 26 of 100 lost
+        (100, [], "fail", 100),                      # nothing decoded
+    ],
+)
+def test_file_check_grades_frames_lost_from_the_samples(frame_count, sampled, status, lost):
+    # Sample indices as sample_frames asks for them: 5 spread over 100 frames are 0, 25, 50, 74, 99
+    # (numpy linspace rounded). The fail limit is the full analysis's 10 % (pose.MAX_LOST_FRACTION).
+    check = capture.file_check(frame_count, sampled, n_samples=5)
+    assert (check["status"], check["value"]) == (status, lost), check
+
+
+def test_quick_check_flags_a_file_cut_short(tmp_path):
+    # A copy cut at 40 % of its bytes (index first, as phones write it) decoded in part and
+    # passed the quick check before (review of 2026-12-03).
+    data = WALKER.read_bytes()
+    cut = tmp_path / "cut.mp4"
+    cut.write_bytes(data[: int(0.4 * len(data))])
+    checks = _by_name(capture.quick_check(cut))
+    assert checks["file"]["status"] == "fail" and "export the clip" in checks["file"]["suggestion"]
+    assert checks["file"]["value"] > 0.3 * probe_clip(WALKER).frame_count
+    assert _by_name(capture.quick_check(WALKER))["file"]["status"] == "pass"

@@ -93,3 +93,32 @@ def test_keypoint_folder_markers_keep_their_recorded_colour():
     assert unstated.pelvis_markers == "recorded in keypoints (colour not stated)"
     plain = pd.DataFrame({"landmark": ["left_hip"]})
     assert _folder_marker_colour(plain, {"pelvis_markers": None}, AnalysisOptions()).pelvis_markers is None
+
+
+def test_scene_cache_is_kept_apart_per_pose_settings(tmp_path, monkeypatch):
+    # The scene's answers leave out the person's region, which moves with the pose settings
+    # (mirror averaging on or off): one cached answer must not serve the other (review of 2026-12-03).
+    from lean_video import capture, pipeline
+
+    measured = []
+
+    class Setup:
+        def __init__(self, key):
+            self.key = key
+
+        def to_cache(self):
+            return {"key": self.key}
+
+    def fake_setup(video, keypoints, **kwargs):
+        measured.append(video)
+        return Setup(len(measured))
+
+    monkeypatch.setattr(capture, "camera_setup", fake_setup)
+    monkeypatch.setattr(capture.CameraSetup, "from_cache", classmethod(lambda cls, data, **kw: Setup(data["key"])))
+    clip = {"sha256": "ab" * 32, "width": 720}
+    options = pipeline.AnalysisOptions()
+    first = pipeline._camera_setup("clip.mp4", None, options, (), clip, tmp_path, "mirror-on")
+    other = pipeline._camera_setup("clip.mp4", None, options, (), clip, tmp_path, "mirror-off")
+    again = pipeline._camera_setup("clip.mp4", None, options, (), clip, tmp_path, "mirror-on")
+    assert (first.key, other.key, again.key) == (1, 2, 1)
+    assert len(measured) == 2 and len(list(tmp_path.glob("scene-*.json"))) == 2
