@@ -32,10 +32,14 @@ from __future__ import annotations
 import logging
 import os
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from lean_video.errors import LeanVideoError
+
+if TYPE_CHECKING:  # pandas is imported where the table is built, not at import time
+    import pandas as pd
 
 log = logging.getLogger(__name__)
 
@@ -238,8 +242,8 @@ def find_markers_near_body(rgb: np.ndarray, points: dict, *, search: MarkerSearc
 
 
 def track_pelvis_markers(
-    path: str | os.PathLike, keypoints: "pd.DataFrame", *, search: MarkerSearch = MarkerSearch(),
-) -> "pd.DataFrame":
+    path: str | os.PathLike, keypoints: pd.DataFrame, *, search: MarkerSearch = MarkerSearch(),
+) -> pd.DataFrame:
     """Find the pelvis markers in every frame of a clip that has keypoints.
 
     Parameters

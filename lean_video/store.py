@@ -10,7 +10,8 @@ Location
     ``~/.local/share/lean_video`` (XDG Base Directory Specification 0.8).
     The database file is ``<data_dir>/lean_video.sqlite3``.
 
-Schema (``PRAGMA user_version`` holds the version, currently 3)
+Schema (``PRAGMA user_version`` holds the version, currently 3; see
+:mod:`lean_video.store_schema`)
     ``clients``  id (pseudonym, primary key), display_name, birth_year,
                  mass_kg, height_m, side_of_interest, notes, created_utc
     ``sessions`` id, client_id, date_filmed (YYYY-MM-DD), clip_sha256,
@@ -37,6 +38,9 @@ Concurrency
     two processes writing at once both land (the second waits for the lock;
     SQLite documentation, "Write-Ahead Logging", sqlite.org/wal.html).
     ``secure_delete`` is on so forgotten clients are overwritten in the file.
+
+Validation of what is stored is in :mod:`lean_video.store_checks`, the schema
+scripts and migrations in :mod:`lean_video.store_schema`.
 """
 
 from __future__ import annotations
@@ -47,7 +51,6 @@ import json
 import logging
 import math
 import os
-import re
 import sqlite3
 from contextlib import contextmanager
 from dataclasses import dataclass
@@ -57,99 +60,20 @@ from typing import Any, Iterator, Mapping
 import pandas as pd
 
 from lean_video.errors import LeanVideoError
+from lean_video.store_checks import (BIRTH_YEAR_MIN, HEIGHT_RANGE_M, MASS_RANGE_KG, MAX_TEXT_CHARS, PHASE_COLUMNS,
+                                     check_body, check_client_text, check_provenance, check_range, neutralise_cell,
+                                     phase_rows, to_json, validate_client_id, validate_date)
+from lean_video.store_schema import SCHEMA_VERSION, migrate
+
+__all__ = ["BIRTH_YEAR_MIN", "Client", "HEIGHT_RANGE_M", "MASS_RANGE_KG", "MAX_TEXT_CHARS", "PHASE_COLUMNS",
+           "SCHEMA_VERSION", "Session", "Store", "check_body", "check_client_text", "check_provenance",
+           "default_data_dir", "neutralise_cell", "open_store", "validate_client_id", "validate_date"]
 
 logger = logging.getLogger(__name__)
 
-SCHEMA_VERSION = 3
 DB_FILENAME = "lean_video.sqlite3"
 BUSY_TIMEOUT_MS = 30_000
 
-#: Per-phase columns stored from the ``strides`` table; the first five are required.
-PHASE_COLUMNS = (
-    "stance_side", "start_s", "end_s", "duration_s", "lean_mean_deg",
-    "lean_peak_deg", "pelvic_drop_mean_deg", "pelvic_drop_peak_deg",
-    "lever_arm_cm", "lever_arm_shortening_cm", "lever_arm_shortening_pct",
-    "abductor_force_bw", "hip_force_bw", "hip_force_change_pct",
-)
-_REQUIRED_PHASE_COLUMNS = PHASE_COLUMNS[:5]
-
-_CLIENT_ID_RE = re.compile(r"^[A-Za-z0-9_\-][A-Za-z0-9_.\-]{0,63}$")
-_DATE_RE = re.compile(r"^\d{4}-\d{2}-\d{2}$")
-_SHA256_RE = re.compile(r"^[0-9a-f]{64}$")
-MASS_RANGE_KG = (20.0, 300.0)     # common practice, no source: plausible adult/adolescent range
-HEIGHT_RANGE_M = (1.0, 2.3)       # common practice, no source; as the hip model's (mechanics_params)
-MAX_TEXT_CHARS = 10_000
-BIRTH_YEAR_MIN = 1900
-
-_V1_SQL = """
-CREATE TABLE clients (
-    id TEXT PRIMARY KEY,
-    display_name TEXT,
-    birth_year INTEGER,
-    mass_kg REAL,
-    height_m REAL,
-    side_of_interest TEXT CHECK (side_of_interest IN ('left', 'right')),
-    created_utc TEXT NOT NULL
-);
-CREATE TABLE sessions (
-    id INTEGER PRIMARY KEY AUTOINCREMENT,
-    client_id TEXT NOT NULL REFERENCES clients(id) ON DELETE CASCADE,
-    date_filmed TEXT NOT NULL,
-    clip_sha256 TEXT NOT NULL,
-    settings_json TEXT NOT NULL,
-    software_version TEXT NOT NULL,
-    summary_json TEXT NOT NULL,
-    created_utc TEXT NOT NULL,
-    UNIQUE (client_id, clip_sha256)
-);
-CREATE TABLE phases (
-    session_id INTEGER NOT NULL REFERENCES sessions(id) ON DELETE CASCADE,
-    phase_index INTEGER NOT NULL,
-    stance_side TEXT NOT NULL CHECK (stance_side IN ('left', 'right')),
-    start_s REAL NOT NULL, end_s REAL NOT NULL, duration_s REAL NOT NULL,
-    lean_mean_deg REAL NOT NULL, lean_peak_deg REAL,
-    pelvic_drop_mean_deg REAL, pelvic_drop_peak_deg REAL,
-    lever_arm_cm REAL, lever_arm_shortening_cm REAL, lever_arm_shortening_pct REAL,
-    abductor_force_bw REAL, hip_force_bw REAL, hip_force_change_pct REAL,
-    PRIMARY KEY (session_id, phase_index)
-);
-CREATE INDEX sessions_by_client ON sessions(client_id, date_filmed);
-"""
-
-_MIGRATIONS = {
-    # 1 -> 2: free-text notes on a client; record of report files written.
-    1: """
-ALTER TABLE clients ADD COLUMN notes TEXT;
-CREATE TABLE reports (
-    id INTEGER PRIMARY KEY AUTOINCREMENT,
-    client_id TEXT NOT NULL REFERENCES clients(id) ON DELETE CASCADE,
-    session_id INTEGER REFERENCES sessions(id) ON DELETE SET NULL,
-    path TEXT NOT NULL,
-    created_utc TEXT NOT NULL
-);
-""",
-    # 2 -> 3: several sessions per client and clip (re-analysis keeps the earlier one).
-    2: """
-CREATE TABLE sessions_v3 (
-    id INTEGER PRIMARY KEY AUTOINCREMENT,
-    client_id TEXT NOT NULL REFERENCES clients(id) ON DELETE CASCADE,
-    date_filmed TEXT NOT NULL,
-    clip_sha256 TEXT NOT NULL,
-    settings_json TEXT NOT NULL,
-    software_version TEXT NOT NULL,
-    summary_json TEXT NOT NULL,
-    created_utc TEXT NOT NULL
-);
-INSERT INTO sessions_v3 (id, client_id, date_filmed, clip_sha256, settings_json, software_version, summary_json,
-                         created_utc)
-    SELECT id, client_id, date_filmed, clip_sha256, settings_json, software_version, summary_json, created_utc
-    FROM sessions;
-DROP TABLE sessions;
-ALTER TABLE sessions_v3 RENAME TO sessions;
-CREATE INDEX sessions_by_client ON sessions(client_id, date_filmed);
-CREATE INDEX sessions_by_clip ON sessions(client_id, clip_sha256)
-""",
-}
 
 
 def _err(msg: str) -> LeanVideoError:
@@ -158,70 +82,6 @@ def _err(msg: str) -> LeanVideoError:
 
 def _now_utc() -> str:
     return _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat()
-
-
-def validate_client_id(client_id: Any) -> str:
-    """Return ``client_id`` if it is a safe pseudonym, else raise.
-
-    Allowed: 1-64 characters from letters, digits, ``-``, ``_``, ``.``, not
-    starting with ``.`` (so it is also a safe file-name stem).
-    """
-    if not isinstance(client_id, str) or not _CLIENT_ID_RE.match(client_id):
-        raise _err(
-            f"client id must be 1-64 letters, digits, '-', '_' or '.' not starting with '.', "
-            f"got {client_id!r}; choose a pseudonym such as HP-014."
-        )
-    return client_id
-
-
-def validate_date(date: Any, name: str = "date") -> str:
-    """Return an ISO ``YYYY-MM-DD`` date string if valid and not in the future, else raise.
-
-    A day of slack allows for time zones (the clinic's today may be UTC's tomorrow).
-    """
-    if isinstance(date, _dt.date):
-        date = date.isoformat()[:10]
-    if isinstance(date, str) and _DATE_RE.match(date):
-        try:
-            day = _dt.date.fromisoformat(date)
-        except ValueError:
-            day = None
-        if day is not None:
-            latest = _dt.date.today() + _dt.timedelta(days=1)
-            if day > latest:
-                raise _err(f"{name} must not lie in the future, got {date!r} (today is {_dt.date.today()}); "
-                           "give the day the clip was filmed.")
-            return date
-    raise _err(f"{name} must be a calendar date written YYYY-MM-DD, got {date!r}; fix the date.")
-
-
-def check_client_text(*, display_name: Any = None, notes: Any = None) -> None:
-    """Validate a client's free-text fields (either may be None) before any work is done."""
-    for name, text in (("display_name", display_name), ("notes", notes)):
-        if text is None:
-            continue
-        if not isinstance(text, str):
-            raise _err(f"{name} must be text, got {type(text).__name__}; pass a string or leave it out.")
-        if len(text) > MAX_TEXT_CHARS:
-            raise _err(f"{name} must be at most {MAX_TEXT_CHARS} characters, got {len(text)}; shorten it.")
-
-
-def _check_range(value: Any, name: str, lo: float, hi: float, unit: str) -> float | None:
-    if value is None:
-        return None
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        v = math.nan
-    if not (lo <= v <= hi):
-        raise _err(f"{name} must be between {lo:g} and {hi:g} {unit}, got {value!r}; check the value and its unit.")
-    return v
-
-
-def check_body(*, mass_kg: Any = None, height_m: Any = None) -> tuple[float | None, float | None]:
-    """Validate body mass and height (either may be None) before any work is done."""
-    return (_check_range(mass_kg, "mass_kg", *MASS_RANGE_KG, "kg"),
-            _check_range(height_m, "height_m", *HEIGHT_RANGE_M, "m"))
 
 
 @dataclass(frozen=True)
@@ -307,8 +167,8 @@ class Store:
         Returns ``(client, created)``.
         """
         validate_client_id(client_id)
-        mass_kg = _check_range(mass_kg, "mass_kg", *MASS_RANGE_KG, "kg")
-        height_m = _check_range(height_m, "height_m", *HEIGHT_RANGE_M, "m")
+        mass_kg = check_range(mass_kg, "mass_kg", *MASS_RANGE_KG, "kg")
+        height_m = check_range(height_m, "height_m", *HEIGHT_RANGE_M, "m")
         if birth_year is not None:
             this_year = _dt.date.today().year
             if isinstance(birth_year, bool) or not isinstance(birth_year, int) or not (
@@ -363,9 +223,9 @@ class Store:
         self._require_client(client_id)
         date = validate_date(date, "date filmed")
         check_provenance(clip_sha256=clip_sha256, settings=settings, version=version)
-        settings_json = _to_json(settings, "settings")
-        summary_json = _to_json(summary, "summary")
-        rows = _phase_rows(strides_df)
+        settings_json = to_json(settings, "settings")
+        summary_json = to_json(summary, "summary")
+        rows = phase_rows(strides_df)
         with self._write() as c:
             earlier = c.execute("SELECT COUNT(*) FROM sessions WHERE client_id=? AND clip_sha256=?",
                                 (client_id, clip_sha256)).fetchone()[0]
@@ -502,19 +362,6 @@ _CLIENT_SELECT = (
 )
 
 
-def check_provenance(*, clip_sha256: Any, settings: Any, version: Any) -> None:
-    """Refuse a session without its provenance: the clip's content hash, the settings used, the version."""
-    if not isinstance(clip_sha256, str) or not _SHA256_RE.match(clip_sha256):
-        raise _err(f"the clip's SHA-256 must be 64 lower-case hex digits, got {clip_sha256!r}; analyse the video "
-                   "itself, or a keypoint folder whose clip.json holds the video's sha256.")
-    if not isinstance(settings, Mapping) or not settings:
-        raise _err(f"settings must be the non-empty mapping of every parameter used, got {settings!r}; "
-                   "pass the analysis summary's settings.")
-    if not isinstance(version, str) or not version.strip():
-        raise _err(f"version must be the software version that made the analysis, got {version!r}; "
-                   "pass lean_video.__version__.")
-
-
 def _sqlite_error(exc: sqlite3.Error, path: Path) -> LeanVideoError:
     """A clinician-readable error for a failed write to the store (nothing was changed)."""
     text = str(exc).lower()
@@ -526,60 +373,6 @@ def _sqlite_error(exc: sqlite3.Error, path: Path) -> LeanVideoError:
                     "Nothing was changed.")
     return _err(f"the client store {path.name} could not be written ({exc}); check the data folder and run "
                 "this again. Nothing was changed.")
-
-
-def _to_json(obj: Any, name: str) -> str:
-    try:
-        return json.dumps(obj, sort_keys=True, allow_nan=False, default=_json_default)
-    except (TypeError, ValueError) as exc:
-        raise _err(f"{name} must be JSON-serialisable without NaN/inf ({exc}); replace missing numbers by null.") from None
-
-
-def _json_default(o: Any) -> Any:
-    if hasattr(o, "item"):          # numpy scalar
-        v = o.item()
-        if isinstance(v, float) and not math.isfinite(v):
-            raise ValueError("non-finite number")
-        return v
-    if hasattr(o, "tolist"):        # numpy array
-        return o.tolist()
-    raise TypeError(f"cannot encode {type(o).__name__}")
-
-
-def _phase_rows(df: pd.DataFrame) -> list[tuple]:
-    if not isinstance(df, pd.DataFrame):
-        raise _err(f"strides_df must be a pandas DataFrame, got {type(df).__name__}; pass the gait strides table.")
-    missing = [c for c in _REQUIRED_PHASE_COLUMNS if c not in df.columns]
-    if missing:
-        raise _err(f"strides_df lacks columns {missing}; pass the strides table from the gait stage.")
-    bad_side = set(df["stance_side"]) - {"left", "right"}
-    if bad_side:
-        raise _err(f"stance_side must be 'left' or 'right', got {sorted(map(str, bad_side))}; fix the strides table.")
-    rows = []
-    for rec in df.reindex(columns=list(PHASE_COLUMNS)).itertuples(index=False):
-        vals = [rec[0]]
-        for name, v in zip(PHASE_COLUMNS[1:], rec[1:]):
-            try:
-                v = None if v is None or pd.isna(v) else float(v)
-            except (TypeError, ValueError):
-                raise _err(f"strides_df column {name} holds {v!r}, not a number; pass the gait strides table.") from None
-            if v is None and name in _REQUIRED_PHASE_COLUMNS:
-                raise _err(f"strides_df column {name} has a missing value; drop incomplete phases before saving.")
-            if v is not None and not math.isfinite(v):
-                raise _err(f"strides_df column {name} holds {v}, not a finite number; fix the analysis before saving.")
-            vals.append(v)
-        rows.append(tuple(vals))
-    return rows
-
-
-def neutralise_cell(value: Any) -> Any:
-    """Prefix text cells that a spreadsheet would run as a formula with ``'``.
-
-    Only ``str`` values are changed; numbers (including negatives) are kept.
-    """
-    if isinstance(value, str) and value[:1] in ("=", "+", "-", "@", "\t", "\r"):
-        return "'" + value
-    return value
 
 
 def _write_csv(path: Path, header: list[str], rows: list[list[Any]]) -> None:
@@ -629,7 +422,7 @@ def open_store(data_dir: str | os.PathLike | None = None) -> Store:
         conn.execute(f"PRAGMA busy_timeout={BUSY_TIMEOUT_MS}")
         conn.execute("PRAGMA foreign_keys=ON")
         conn.execute("PRAGMA secure_delete=ON")
-        _check_and_migrate(conn, path)
+        migrate(conn, path)
         if conn.execute("PRAGMA journal_mode").fetchone()[0].lower() != "wal":
             conn.execute("PRAGMA journal_mode=WAL")
     except LeanVideoError:
@@ -648,54 +441,3 @@ def open_store(data_dir: str | os.PathLike | None = None) -> Store:
     return Store(path, conn)
 
 
-def _check_and_migrate(conn: sqlite3.Connection, path: Path) -> None:
-    check = conn.execute("PRAGMA quick_check").fetchone()[0]
-    if check != "ok":
-        raise sqlite3.DatabaseError(f"integrity check: {check}")
-    version = conn.execute("PRAGMA user_version").fetchone()[0]
-    if version < 0:
-        raise sqlite3.DatabaseError(f"schema version {version}")
-    if version > SCHEMA_VERSION:
-        raise _err(f"client store {path.name} has schema version {version} but this lean_video understands up to "
-                   f"{SCHEMA_VERSION}; update lean_video before opening it.")
-    if version == SCHEMA_VERSION:
-        return
-    # A table rebuild drops the old table; with foreign-key actions on that
-    # would cascade into the phases. The pragma only changes outside a
-    # transaction; the rebuilt schema is checked before the commit.
-    conn.execute("PRAGMA foreign_keys=OFF")
-    conn.execute("BEGIN IMMEDIATE")
-    try:
-        # Re-read under the write lock: another process may have migrated meanwhile.
-        version = conn.execute("PRAGMA user_version").fetchone()[0]
-        if version == 0:
-            tables = conn.execute("SELECT COUNT(*) FROM sqlite_master").fetchone()[0]
-            if tables:
-                raise _err(f"{path.name} in the data folder is an SQLite file of another program; "
-                           "move it aside or choose another --data-dir.")
-            _exec_script(conn, _V1_SQL)
-            version = 1
-        while version < SCHEMA_VERSION:
-            _exec_script(conn, _MIGRATIONS[version])
-            version += 1
-            logger.info("client store migrated to schema %d", version)
-        broken = conn.execute("PRAGMA foreign_key_check").fetchall()
-        if broken:
-            raise sqlite3.DatabaseError(f"foreign keys broken by the migration: {broken[:3]}")
-        conn.execute(f"PRAGMA user_version={int(version)}")
-    except BaseException:
-        if conn.in_transaction:
-            conn.execute("ROLLBACK")
-        raise
-    finally:
-        if not conn.in_transaction:
-            conn.execute("PRAGMA foreign_keys=ON")
-    conn.execute("COMMIT")
-    conn.execute("PRAGMA foreign_keys=ON")
-
-
-def _exec_script(conn: sqlite3.Connection, script: str) -> None:
-    # executescript() would COMMIT our transaction first; run statement by statement.
-    for stmt in script.split(";"):
-        if stmt.strip():
-            conn.execute(stmt)
