@@ -282,7 +282,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--out", required=True, help="output folder")
     p.add_argument("--cache-dir", default=None, help="keypoint cache folder (default: per-user cache)")
     p.add_argument("--no-cache", action="store_true", help="neither read nor write the keypoint cache")
-    p.add_argument("--max-side-px", type=int, default=1280, help="scale frames down to this longer side (default 1280)")
+    # as analyse uses, so a keypoint folder gives the same results as the video itself
+    p.add_argument("--max-side-px", type=int, default=960, help="scale frames down to this longer side (default 960)")
     p.add_argument("--no-recover", action="store_true", help="skip the enlarged-crop pass for small, far figures")
     _add_marker_arg(p, "also find two stickers of this colour over the pelvis and write them as two more landmarks")
     p.add_argument("--no-mirror", action="store_true",

@@ -212,7 +212,7 @@ def test_single_support_time_per_side(name):
 
 @pytest.mark.xfail(strict=True, reason="target not met on the strong-lean walker lit from either side: 1.28 and "
                                        "1.32 deg, 1.05 on a walker filmed from behind, 1.07 on a marker client lit "
-                                       "from 60 deg (0.94 on the other 24 clips)")
+                                       "from 60 deg (0.94 on the other 29 clips)")
 def test_target_per_side_lean_within_one_degree():
     # Met on the first 15 clips since both feet share one footprint tolerance walking toward.
     errs = per_side_lean_errors()
@@ -241,7 +241,7 @@ def test_pelvic_drop_from_markers(name):
     r = row(name)
     assert r["pelvis_source"] == "pelvis markers"
     for side in ("left", "right"):
-        # Issue target: per-side pelvic drop within 1.5 deg of truth. Measured on the 6
+        # Issue target: per-side pelvic drop within 1.5 deg of truth. Measured on the 7
         # marker clips (true drop 0-5.7 deg per side): -0.57 to +0.56 deg walking toward,
         # -1.32 to +0.51 walking away (the heavier walker, held out, whose phases are found
         # worst; before frames with markers under 20 px apart were left out: -1.49 and a

@@ -323,3 +323,13 @@ def test_interrupt_after_the_session_was_stored_says_so(monkeypatch, capsys):
     assert cli.main(["check", "whatever.mp4"]) == 130
     err = capsys.readouterr().err
     assert "the analysis was stored (session 7)" in err and "nothing was stored" not in err
+
+
+def test_pose_command_scales_frames_as_analyse_does():
+    # A keypoint folder written by 'pose' must give the same results as analysing the
+    # video itself; the two commands once scaled frames to 1280 and 960 px (README review).
+    from lean_video import cli, pipeline
+    from lean_video.pose import PoseSettings
+
+    args = cli.build_parser().parse_args(["pose", "clip.mp4", "--out", "folder"])
+    assert args.max_side_px == pipeline.AnalysisOptions().pose_max_side_px == PoseSettings().max_side_px
