@@ -10,6 +10,7 @@ APT_PACKAGES := ffmpeg libosmesa6 chromium
 .PHONY: venv demo test system-deps bench clean-venv
 
 $(STAMP): pyproject.toml constraints.txt
+	@$(PYTHON) -c "import venv, ensurepip" 2>/dev/null || { echo "$(PYTHON) lacks the venv module: install it (Debian/Ubuntu: sudo apt-get install python3-venv)"; exit 1; }
 	$(PYTHON) -m venv $(VENV)
 	$(BIN)/python -m pip install --quiet --disable-pip-version-check -c constraints.txt -e '.[test,synth]'
 	$(BIN)/python -m pip install --quiet --disable-pip-version-check --no-deps pyrender==0.1.45
