@@ -122,7 +122,18 @@ def fmt(value: Any, digits: int = 1, unit: str = "") -> str:
         return str(value)
     if not math.isfinite(v):
         return "n/a"
-    return f"{v:.{digits}f}{unit}"
+    text = f"{v:.{digits}f}"
+    if text.startswith("-") and float(text) == 0.0:
+        text = text[1:]          # -0.04 shows as 0.0, not -0.0
+    return text + unit
+
+
+def signed(value: Any, digits: int = 1, unit: str = "") -> str:
+    """Like :func:`fmt` with a '+' before positive values (by the printed digits: never '+0.0')."""
+    text = fmt(value, digits)
+    if text == "n/a" or not text.lstrip("-").replace(".", "", 1).isdigit():
+        return text                  # missing (or text passed through): no unit, no sign
+    return ("+" if float(text) > 0 else "") + text + unit
 
 
 def _flatten(d: Mapping, prefix: str = "") -> list[tuple[str, str]]:
@@ -132,8 +143,10 @@ def _flatten(d: Mapping, prefix: str = "") -> list[tuple[str, str]]:
         key = f"{prefix}{k}"
         if isinstance(v, Mapping):
             rows += _flatten(v, key + ".")
+        elif v is None or (isinstance(v, (list, tuple)) and not v):
+            rows.append((key, "not set" if v is None else "none"))     # never Python's "None" or a blank
         elif isinstance(v, float):
-            rows.append((key, f"{v:g}"))
+            rows.append((key, f"{v:g}" if math.isfinite(v) else "n/a"))
         elif isinstance(v, (list, tuple)) and v and all(isinstance(x, Mapping) for x in v):
             for i, x in enumerate(v):
                 rows += _flatten(x, f"{key}[{i}].")
@@ -148,7 +161,7 @@ def _env() -> Environment:
     env = Environment(loader=FileSystemLoader(str(TEMPLATE_DIR)), autoescape=True,
                       undefined=StrictUndefined, trim_blocks=True, lstrip_blocks=True)
     env.filters["fmt"] = fmt
-    env.filters["signed"] = lambda v, d=1, u="": ("+" if (isinstance(v, (int, float)) and v > 0) else "") + fmt(v, d, u)
+    env.filters["signed"] = signed
     return env
 
 
@@ -174,6 +187,10 @@ def _client_view(client: Mapping | None) -> dict[str, Any]:
     return {"id": clean_text(c.get("id")) or "unnamed client", "display_name": clean_text(c.get("display_name")),
             "notes": clean_text(c.get("notes")), "mass_kg": c.get("mass_kg"), "height_m": c.get("height_m"),
             "birth_year": c.get("birth_year"), "side_of_interest": c.get("side_of_interest")}
+
+
+def _pose_params(summary: Mapping) -> dict[str, Any]:   # the pose model and its settings, not its frame counts
+    return {k: v for k, v in (summary.get("pose") or {}).items() if k in ("model", "settings")}
 
 
 def _require(summary: Mapping, keys: Sequence[str]) -> None:
@@ -280,6 +297,10 @@ def render_session_report(
     for name, df in (("frames", frames), ("strides", strides)):
         if not isinstance(df, pd.DataFrame):
             raise LeanVideoError(f"{name} must be a pandas DataFrame, got {type(df).__name__}; pass the gait table.")
+    if "stance_side" not in strides and len(strides):
+        raise LeanVideoError("strides lacks the stance_side column; pass the gait stage's per-phase table.")
+    if "stance_side" not in strides:     # no phases at all
+        strides = pd.DataFrame(columns=["stance_side", "start_s", "end_s", "lean_mean_deg"])
     sides = {s: _side_view(s, (summary["sides"].get(s) or {}), strides) for s in SIDES}
     roll = float(summary.get("camera_roll_deg") or 0.0)
     # Numbers from a method that failed validation (wrong sign on the test
@@ -321,7 +342,7 @@ def render_session_report(
                                                       if k not in ("checks", "warnings")})],
         "phase_cols": phase_cols, "phase_rows": strides[[c for c, _ in phase_cols]].to_dict("records"),
         "settings_rows": _flatten(summary["settings"]),
-        "mechanics_rows": _flatten(summary.get("mechanics") or {}),
+        "mechanics_rows": _flatten(summary.get("mechanics") or {}), "pose_rows": _flatten(_pose_params(summary)),
         "clip": summary["clip"], "version": summary["version"],
     }
     return _env().get_template("session.html.j2").render(**ctx)
@@ -406,7 +427,8 @@ def render_history_report(
     prov = [{"date": s["date"], "version": s.get("version") or s["summary"].get("version"),
              "clip_sha256": s.get("clip_sha256") or (s["summary"].get("clip") or {}).get("sha256"),
              "params": _flatten({"settings": s.get("settings") or s["summary"].get("settings") or {},
-                                 "mechanics": s["summary"].get("mechanics") or {}})} for s in sessions]
+                                 "mechanics": s["summary"].get("mechanics") or {},
+                                 "pose": _pose_params(s["summary"])})} for s in sessions]
     shared = prov[0]["params"] if all(p["params"] == prov[0]["params"] for p in prov) else None
     ctx = {"title": "Walking assessment: history", "csp": CSP, "plotly_js": Markup(plotly.offline.get_plotlyjs()),
            "client": _client_view(client), "clinic_name": clinic_name, "generated": generated_utc or _now(),

@@ -712,3 +712,119 @@ def test_history_says_when_earlier_analyses_of_a_clip_are_left_out():
     sessions[1]["n_earlier_analyses"] = 2
     html = render_history_report({"id": "HP-014"}, sessions)
     assert "2 earlier\nanalysis/analyses of the same clips stay stored unchanged" in html
+
+
+# --------------------------------------------------------------------------- missing and withheld values, signs
+def _text(html: str) -> str:
+    """Visible text outside scripts and styles, whitespace collapsed."""
+    return " ".join("".join(parse(html).outside_script_text).split())
+
+
+def test_hostile_clip_and_clinic_names_are_escaped():
+    strides = make_strides()
+    html = render_session_report(make_summary(strides), make_frames(strides), strides,
+                                 clip_name=HOSTILE_NAME + ".mp4", clinic_name="<b onclick=x>Lab</b>")
+    assert HOSTILE_NAME not in html and "<b onclick" not in html
+    assert "&lt;script&gt;alert(1)&lt;/script&gt;.mp4" in html and "&lt;b onclick=x&gt;Lab&lt;/b&gt;" in html
+
+
+def test_missing_numbers_read_n_a_without_a_unit_and_never_minus_zero():
+    strides = make_strides()
+    summary = make_summary(strides)
+    summary.update(camera_roll_deg=None, cadence_steps_per_min=None,
+                   standing={"duration_s": 1.5, "lean_deg": -0.04, "pelvic_obliquity_deg": None})
+    text = _text(render_session_report(summary, make_frames(strides), strides))
+    assert "n/a°" not in text and "n/a steps" not in text and "n/a s" not in text
+    assert "camera roll corrected: n/a" in text and "Cadence n/a;" in text
+    assert "trunk lean 0.0° (positive" in text and "-0.0" not in text and "+0.0" not in text
+    summary["camera_roll_deg"] = -0.03
+    assert "camera roll corrected: 0.0°" in _text(render_session_report(summary, make_frames(strides), strides))
+
+
+def test_parameter_tables_show_no_python_values_and_list_the_pose_model():
+    strides = make_strides()
+    summary = make_summary(strides)
+    summary["settings"] = {**summary["settings"], "analysis": {"height_m": None, "camera_roll_deg": None}}
+    summary["mechanics"] = {**summary["mechanics"], "warnings": []}
+    summary["pose"] = {"model": "BlazePose full (mediapipe 0.10.21)", "from_cache": False,
+                       "settings": {"model_complexity": 1, "min_detection_confidence": 0.5}}
+    tables = parse(render_session_report(summary, make_frames(strides), strides)).tables
+    params = dict(tuple(r) for r in tables["settings"][1:] + tables["mechanics"][1:])
+    assert params["analysis.height_m"] == "not set" and params["warnings"] == "none"
+    assert not any(v in ("None", "nan", "") for v in params.values())
+    pose = dict(tuple(r) for r in tables["pose"][1:])
+    assert pose == {"model": "BlazePose full (mediapipe 0.10.21)", "settings.model_complexity": "1",
+                    "settings.min_detection_confidence": "0.5"}
+    sessions = make_sessions()
+    for s in sessions:
+        s["summary"]["pose"] = summary["pose"]
+        s["settings"] = {"analysis": {"height_m": None}}
+    prov = dict(tuple(r) for r in parse(render_history_report({"id": "HP-014"}, sessions)).tables["prov-params"][1:])
+    assert prov["pose.model"] == "BlazePose full (mediapipe 0.10.21)" and prov["settings.analysis.height_m"] == "not set"
+
+
+def test_sign_conventions_stated_where_numbers_are_shown():
+    strides = make_strides(left_lean=0.5)           # left CI reaches below zero
+    summary = make_summary(strides)
+    html = render_session_report(summary, make_frames(strides), strides,
+                                 pictures={"left": make_picture(-1.5), "right": make_picture(6.0)})
+    text = _text(html)
+    card = _text(html[html.index('id="client-left"'):html.index('id="client-right"')])
+    assert summary["sides"]["left"]["lean_ci95_deg"][0] < 0 and "a minus sign means away from the leg" in card
+    assert "lean -1.5° (away from the standing leg)" in text and "lean 6.0° (toward the standing leg)" in text
+    side_note = text[text.index("Per-side results"):text.index("Standing posture")]
+    assert "Lean positive toward the stance side" in side_note
+    assert "hip force change negative when the estimated load is lower" in side_note
+    phase_note = re.search(r'<p class="small" id="phase-signs">(.*?)</p>', html, re.S).group(1)
+    assert "Lean positive toward the stance side" in phase_note and "hip force change negative" in phase_note
+    hist = _text(render_history_report({"id": "HP-014"}, make_sessions()))
+    assert "Lean is positive toward the standing leg" in hist and "hip force change is negative when" in hist
+
+
+def test_withheld_pelvic_drop_is_explained_to_the_client_and_in_the_history():
+    strides = make_strides()
+    summary = make_summary(strides)             # method not stated: withheld
+    html = render_session_report(summary, make_frames(strides), strides)
+    client = _text(html[html.index('id="client-part"'):html.index('id="clinician-part"')])
+    assert "Pelvic drop" in client and "is not reported from this video" in client
+    # with markers, a leg whose drop was not measured says so rather than staying silent
+    summary["pelvic_obliquity_method"] = {"validated": True, "note": "From two stickers over the pelvis."}
+    summary["pelvic_obliquity_source"] = "pelvis markers"
+    summary["sides"]["right"]["pelvic_drop_mean_deg"] = None
+    html = render_session_report(summary, make_frames(strides), strides)
+    right = _text(html[html.index('id="client-right"'):html.index('id="cautions"')])
+    assert "Your pelvis: not measured on this leg" in right and "is not reported from this video" not in html
+    assert "n/a" not in right and "None" not in right
+    hist = _text(render_history_report({"id": "HP-014"}, make_sessions()))
+    assert "Pelvic drop is not trended: none of these sessions was filmed with pelvis markers" in hist
+
+
+def test_history_of_one_session_says_why_there_is_no_change_yet():
+    html = render_history_report({"id": "HP-014"}, make_sessions()[:1])
+    assert 'id="single-session"' in html and "Only one session is stored" in html
+    assert 'id="single-session"' not in render_history_report({"id": "HP-014"}, make_sessions())
+    sessions = make_sessions()
+    for s in sessions[1:]:
+        s["summary"] = {**s["summary"], "pelvic_obliquity_method": {"validated": True}}
+    assert "previous session. Pelvic drop is given only" in _text(render_history_report({"id": "HP-014"}, sessions))
+
+
+def test_reports_render_with_missing_sides_and_no_phases():
+    strides = make_strides()
+    left = strides[strides["stance_side"] == "left"].reset_index(drop=True)
+    html = render_session_report(make_summary(left), make_frames(left), left, events=make_events(left),
+                                 hip_curve=make_curve(), pictures={"left": make_picture()})
+    assert "No steps on this leg could be measured." in html
+    assert not re.search(r"\bnan\b|\bNone\b", _text(html))
+    for none in (strides.iloc[:0], pd.DataFrame()):
+        summary = make_summary(strides.iloc[:0])
+        html = render_session_report(summary, make_frames(strides), none, hip_curve=make_curve())
+        assert html.count("No steps on this leg could be measured.") == 2
+    with pytest.raises(LeanVideoError, match="stance_side"):
+        render_session_report(make_summary(strides), make_frames(strides), strides.drop(columns="stance_side"))
+    sessions = make_sessions()
+    sessions[1]["phases"] = pd.DataFrame()
+    for s in sessions:
+        s["phases"] = s["phases"][s["phases"]["stance_side"] == "left"] if len(s["phases"]) else s["phases"]
+    hist = _text(render_history_report({"id": "HP-014"}, sessions))
+    assert "Standing on the right leg" in hist and "lean n/a," in hist
