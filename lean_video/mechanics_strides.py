@@ -20,6 +20,7 @@ defaulted is recorded in ``frame.attrs["mechanics"]`` and in the summary.
 from __future__ import annotations
 
 import logging
+from dataclasses import asdict
 from typing import Any
 
 import numpy as np
@@ -73,7 +74,8 @@ def add_mechanics_columns(
     pandas.DataFrame
         Copy with :data:`lean_video.mechanics.OUTPUT_NAMES` (and newton)
         columns; ``attrs["mechanics"]`` holds ``defaults_used`` (list of
-        names), ``height_m``, ``mass_kg`` and ``caution``.
+        names), ``height_m``, ``mass_kg``, ``params`` (every model parameter
+        used, :class:`HipModelParams` as a dict), ``caution`` and ``warnings``.
 
     Notes
     -----
@@ -140,6 +142,7 @@ def add_mechanics_columns(
         "defaults_used": defaults_used,
         "height_m": params.height_m,
         "mass_kg": None if mass_kg is None else float(mass_kg),
+        "params": asdict(params),
         "caution": CAUTION,
         "warnings": warnings,
     }

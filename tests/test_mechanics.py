@@ -252,6 +252,10 @@ def test_add_mechanics_columns_without_mass_omits_newtons():
     out = add_mechanics_columns(_strides().iloc[:4], height_m=1.80)
     assert not set(NEWTON_NAMES) & set(out.columns)
     assert out.attrs["mechanics"]["defaults_used"] == ["mass_kg"]
+    # provenance: every model parameter used, as the model was given them
+    from dataclasses import asdict
+
+    assert out.attrs["mechanics"]["params"] == asdict(HipModelParams.from_body(1.80))
     summary = summarise_mechanics(out.iloc[:1])
     assert summary["right"]["n_strides"] == 0 and summary["right"]["hip_force_bw"] is None
 
