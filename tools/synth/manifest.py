@@ -258,6 +258,44 @@ def default_manifest() -> dict:
                                                 trousers_rgb=(0.4, 0.35, 0.3)),
          CameraParams(height_m=1.35, pitch_deg=-6.0), RoomParams(light_azimuth_deg=-10, light_elevation_deg=60),
          {"fps": 25}, "held out: walking away at 25 fps, lean 7 deg over the right leg"),
+        # Session of 2026-12-04: four more, rendered and measured once as rendered
+        # (held out): a tall walker in a light shirt and dark trousers, camera rolled
+        # anticlockwise; a petite walker filmed from behind in a dim room; a lean over
+        # both legs lit from overhead at 60 fps; pelvis markers with a rolled camera.
+        ("truth_heldout2_tall_light_shirt", WalkParams(seed=51, start_distance_m=8.5, end_distance_m=2.5,
+                                                       speed_m_s=1.05, cadence_steps_min=104, height_m=1.90,
+                                                       width_scale=1.0, lean_right_stance_deg=6,
+                                                       lean_left_stance_deg=1, pelvic_drop_right_stance_deg=4,
+                                                       shirt_rgb=(0.85, 0.85, 0.82), trousers_rgb=(0.12, 0.12, 0.14)),
+         CameraParams(height_m=1.2, pitch_deg=-5.0, roll_deg=-3.0),
+         RoomParams(light_azimuth_deg=50, light_elevation_deg=45, ambient=0.3), {"crf": 26},
+         "held out (2026-12-04): tall walker in a light shirt and dark trousers, lit from the right, "
+         "camera rolled -3 deg"),
+        ("truth_heldout2_petite_away_dim", WalkParams(seed=52, start_distance_m=2.0, end_distance_m=7.0,
+                                                      speed_m_s=0.75, cadence_steps_min=104, height_m=1.52,
+                                                      width_scale=0.92, lean_right_stance_deg=1,
+                                                      lean_left_stance_deg=6, pelvic_drop_left_stance_deg=3,
+                                                      shirt_rgb=(0.25, 0.2, 0.35), trousers_rgb=(0.3, 0.3, 0.32)),
+         CameraParams(height_m=1.1, pitch_deg=-4.0, roll_deg=1.0),
+         RoomParams(light_azimuth_deg=-35, light_elevation_deg=55, ambient=0.22), {},
+         "held out (2026-12-04): petite walker filmed from behind in a dim room, lean over the left leg"),
+        ("truth_heldout2_both_lean_60fps", WalkParams(seed=53, speed_m_s=0.9, cadence_steps_min=98, height_m=1.70,
+                                                      width_scale=1.1, lean_right_stance_deg=5,
+                                                      lean_left_stance_deg=5, pelvic_drop_right_stance_deg=2,
+                                                      pelvic_drop_left_stance_deg=2, shirt_rgb=(0.6, 0.25, 0.2),
+                                                      trousers_rgb=(0.2, 0.25, 0.4)),
+         CameraParams(height_m=1.3, pitch_deg=-6.0),
+         RoomParams(light_azimuth_deg=0, light_elevation_deg=70, ambient=0.4), {"fps": 60, "crf": 26},
+         "held out (2026-12-04): 5 deg lean over both legs, light from overhead, 60 fps"),
+        ("truth_heldout2_markers_roll", WalkParams(seed=54, start_distance_m=8.0, end_distance_m=2.2, speed_m_s=0.95,
+                                                   cadence_steps_min=100, height_m=1.80, width_scale=1.05,
+                                                   lean_right_stance_deg=7, lean_left_stance_deg=3,
+                                                   pelvic_drop_right_stance_deg=5, pelvic_drop_left_stance_deg=2,
+                                                   shirt_rgb=(0.3, 0.45, 0.6), trousers_rgb=(0.35, 0.3, 0.25),
+                                                   pelvis_marker_rgb=MARKER_GREEN),
+         CameraParams(height_m=1.1, pitch_deg=-4.0, roll_deg=2.0),
+         RoomParams(light_azimuth_deg=-25, light_elevation_deg=50), {},
+         "held out (2026-12-04): pelvis markers, camera rolled 2 deg, light from the left"),
     ]
     for name, walk, cam, room, video, desc in truth:
         clips.append(_entry(name, walk, cam, room, video, kind="truth", description=desc))
