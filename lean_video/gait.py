@@ -439,7 +439,7 @@ def analyse_keypoints(
     markers = marker_obliquity(keypoints, frame, time_s, direction=direction, camera_roll_deg=camera_roll_deg,
                                max_gap_s=max_gap_s, cutoff_hz=cutoff_hz)
     if markers is not None:
-        obliq = markers.obliquity_deg  # the hip points do not follow the pelvis (pipeline.PELVIS_METHOD)
+        obliq = markers.obliquity_deg  # the hip points do not follow the pelvis (stated_accuracy.PELVIS_METHOD)
     scale = smooth_body_height(body_height_px(filtered), time_s)
     contact, intervals = {}, {}
     for side in SIDES:

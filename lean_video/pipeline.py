@@ -22,86 +22,9 @@ import pandas as pd
 from lean_video import __version__
 from lean_video.errors import LeanVideoError
 from lean_video.files import atomic_write_text
+from lean_video.stated_accuracy import EVENTS_METHOD, LEAN_METHOD, PELVIS_MARKER_METHOD, PELVIS_METHOD
 
 log = logging.getLogger(__name__)
-
-#: How pelvic obliquity is measured, and how far to trust it (stated in every summary and report).
-PELVIS_METHOD = {
-    "source": "pose-model hip landmarks (line through left_hip and right_hip)",
-    "validated": False,
-    "note": ("Measured from the pose model's two hip points. On rendered test walkers with a known pelvic drop "
-             "of up to 6 degrees these points moved the wrong way (correlation -0.7 to -0.95 with the true "
-             "obliquity; per-side drop off by up to 8 degrees, mostly in the wrong direction): their line "
-             "follows the trunk rather than the pelvis. Two body-outline methods tried instead were "
-             "not reliable either (per-side errors up to 6.6 and 2.6 degrees, the better one largely following "
-             "the trunk lean rather than the pelvis). Do not use these pelvic-drop numbers for clinical decisions; judge "
-             "pelvic drop (Trendelenburg sign) by eye, or put two stickers on the pelvis and analyse with "
-             "--pelvis-markers, which was validated. Trunk lean is not affected."),
-}
-
-#: Pelvic obliquity from two skin markers over the pelvis (``--pelvis-markers``).
-PELVIS_MARKER_METHOD = {
-    "source": ("two coloured skin markers over the anterior (walking toward) or posterior (walking away) "
-               "superior iliac spines, found by colour around the pose model's hips (lean_video.pose_markers)"),
-    "validated": True,
-    "validated_on": ("8 rendered walking clips with pelvic drop of 2-8 degrees and markers 4 cm across "
-                     "(six walking toward, two away; tools/eval_accuracy.py, 2026-12-04)"),
-    "per_side_error_max_deg": 1.32,
-    "per_phase_error_max_deg": 1.56,
-    "note": ("Measured from two coloured stickers over the pelvis. On 8 rendered test walks with a known pelvic "
-             "drop of 2 to 8 degrees, with and without trunk lean, the per-side mean drop was within 0.57 "
-             "degrees of the truth walking toward the camera and within 1.32 walking away (each phase within "
-             "1.6), the right way wherever the true drop was 1.3 degrees or more. Seen from behind, the "
-             "posterior spines are close together, so frames where the markers lie less than 20 pixels apart "
-             "(the far part of a walk away) are not used: film walking toward the camera for pelvic drop. "
-             "It is only as good as the markers' placement: both must sit on the same bony points on the two "
-             "sides (anterior superior iliac spines when walking toward the camera, posterior ones when "
-             "walking away), on skin or tight clothing that does not slide. Far from the camera, or when a hand "
-             "covers a marker, the drop of that phase is left out and the report says so. Accuracy on real "
-             "clients is not yet measured."),
-}
-
-#: How trunk lean is measured and how far it was checked (stated in every summary and report).
-LEAN_METHOD = {
-    "source": ("pose-model shoulder and hip landmarks, each the average of the model's answers on the frame and on "
-               "its mirror image (mid-hip to mid-shoulder line against the roll-corrected vertical)"),
-    "validated_on": ("37 rendered walking clips with exact truth, 7 of them held out until the methods were "
-                     "settled (tools/eval_accuracy.py, 2026-12-04)"),
-    "per_side_error_median_deg": 0.29,
-    "per_side_error_max_deg": 1.32,
-    "note": ("On 37 rendered test walks with a known lean, the per-side mean lean was within 1.0 degree of "
-             "the truth on 32 (median 0.29; without the mirror-image pass, option --no-mirror, larger). The "
-             "five others are a walker with a large lean (12 degrees at its peak) lit from one side or the "
-             "other, 1.3 degrees off, two walkers filmed from behind, 1.05 and 1.09 degrees off, and one lit "
-             "from 60 degrees to the side, 1.07 degrees off. Light from one side "
-             "shifted the lean of every frame by up to 1.4 degrees, toward or away from the light. These "
-             "errors do not shrink with more steps, so the 95% interval shown covers step-to-step variation "
-             "only. Treat a per-side difference or a change "
-             "between sessions below about 1.5 degrees with caution, and film in even light rather than with "
-             "a window or lamp to one side. Accuracy on real clients is not yet measured."),
-}
-
-#: How foot events were checked (stated in every summary and report).
-EVENTS_METHOD = {
-    "validated_on": ("37 rendered walking clips with exact truth, 7 of them held out until the methods were "
-                     "settled (tools/eval_accuracy.py, 2026-12-04)"),
-    "foot_off_median_error_ms": {"toward": [6, 50], "away": [25, 47]},
-    "foot_strike_median_error_ms": {"toward": [12, 44], "away": [22, 39]},
-    "single_support_error_s": {"toward": [-0.05, 0.10], "away": [-0.13, 0.08]},
-    "single_support_symmetry_index_error_pct": {"toward": 24, "away": 36},
-    "note": ("Walking toward the camera: foot offs were found within about 30 ms (median per clip) on rendered "
-             "test walks, 50 ms early on a slow walk with a long double support. The heel lands hidden behind "
-             "the forefoot and the pose model finds the strike late, so "
-             "each strike is kept at least 8 % of the stride before the other foot's foot off (a "
-             "double support shorter than that is rare in walking), which left strikes 16 ms early to 44 ms late (median "
-             "per clip; 34-109 ms without it) and single-support times up to 0.10 s long. Where the client's "
-             "double support is long, as in slow or painful walking, strikes can stay later. Walking away "
-             "strikes were 22-39 ms off and foot offs 25-47 ms (median per clip; seen from behind, the pose "
-             "model finds the heel rising late). On test walks with equal sides, the "
-             "left/right difference in single-support time read up to 24 % (36 % walking away): do not read "
-             "a difference below about 25 % (40 % walking away) as a real asymmetry; compare single-support "
-             "times between sessions filmed the same way."),
-}
 
 #: Version of the scene cache's content; bump when the scene checks change.
 SCENE_CACHE_FORMAT = 1

@@ -1,7 +1,7 @@
 """Skin markers over the pelvis: two coloured stickers found in each frame.
 
 The pose model's hip points do not follow the pelvis (their line tilts with the
-trunk, see :data:`lean_video.pipeline.PELVIS_METHOD`), so pelvic obliquity is
+trunk, see :data:`lean_video.stated_accuracy.PELVIS_METHOD`), so pelvic obliquity is
 measured only when the clinician has put two round stickers of one bright
 colour on the client's skin or tight clothing over both anterior superior
 iliac spines (client walking toward the camera) or both posterior superior

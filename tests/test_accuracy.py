@@ -179,9 +179,9 @@ def test_foot_off_timing_toward(name):
 
 
 def test_stated_accuracy_covers_what_is_measured():
-    # The accuracy every summary and report states (pipeline.LEAN_METHOD,
+    # The accuracy every summary and report states (stated_accuracy.LEAN_METHOD,
     # EVENTS_METHOD) must not be better than what these clips measure.
-    from lean_video.pipeline import EVENTS_METHOD, LEAN_METHOD
+    from lean_video.stated_accuracy import EVENTS_METHOD, LEAN_METHOD
 
     lean = per_side_lean_errors()
     assert max(lean) <= LEAN_METHOD["per_side_error_max_deg"] + 0.005
@@ -265,7 +265,7 @@ def test_pelvic_drop_from_markers(name):
 
 
 def test_stated_pelvis_accuracy_covers_what_is_measured():
-    from lean_video.pipeline import PELVIS_MARKER_METHOD
+    from lean_video.stated_accuracy import PELVIS_MARKER_METHOD
 
     errs = [abs(row(n)[f"{s}_drop_err"]) for n in MARKED for s in ("left", "right")]
     assert max(errs) <= PELVIS_MARKER_METHOD["per_side_error_max_deg"] + 0.005

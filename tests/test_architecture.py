@@ -17,7 +17,7 @@ PACKAGE = Path(__file__).resolve().parents[1] / "lean_video"
 #: Pipeline position of every module: video -> pose -> gait -> mechanics -> report,
 #: then the code that strings them together. Shared helpers sit at 0.
 STAGE = {
-    "__init__": 0, "errors": 0, "files": 0,
+    "__init__": 0, "errors": 0, "files": 0, "stated_accuracy": 0,
     "video": 1,
     "pose": 2, "pose_model": 2, "pose_markers": 2, "scene": 2, "scene_motion": 2,
     "gait": 3, "gait_clean": 3, "gait_events": 3, "gait_frontal": 3, "gait_options": 3, "gait_passes": 3,

@@ -281,7 +281,7 @@ def test_plotly_inlined_once_and_every_plot_present(session_html):
 
 
 def test_unvalidated_pelvic_drop_is_withheld_from_the_report():
-    # A method that failed validation (pipeline.PELVIS_METHOD: wrong sign on the
+    # A method that failed validation (stated_accuracy.PELVIS_METHOD: wrong sign on the
     # rendered walkers) must not put numbers in front of client or clinician.
     strides = make_strides()
     summary = make_summary(strides)
