@@ -314,7 +314,7 @@ def capture_checks(keypoints: pd.DataFrame, clip: dict, summary: dict, *,
     checks = keypoint_checks(keypoints, clip)
     sides = summary.get("sides", {})
     n_min = min(int((sides.get(s) or {}).get("n_phases") or 0) for s in ("left", "right"))
-    from lean_video.gait import count_unclear_drops
+    from lean_video.gait_phases import count_unclear_drops
 
     unclear = count_unclear_drops((summary.get("quality") or {}).get("dropped_phases"))
     detail = f"fewest single-support phases on one side: {n_min}"

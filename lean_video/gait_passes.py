@@ -30,10 +30,11 @@ import pandas as pd
 from scipy import signal, stats
 
 from lean_video.errors import LeanVideoError
-from lean_video.gait import GaitResult, analyse_keypoints, summarise_sides
+from lean_video.gait import GaitResult, analyse_keypoints
 from lean_video.gait_clean import keypoints_to_track
 from lean_video.gait_events import body_height_px, smooth_body_height
 from lean_video.gait_options import check_frame_rate, check_gait_options
+from lean_video.gait_phases import summarise_sides
 
 log = logging.getLogger(__name__)
 

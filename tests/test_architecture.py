@@ -21,7 +21,7 @@ STAGE = {
     "video": 1,
     "pose": 2, "pose_model": 2, "pose_markers": 2, "scene": 2, "scene_motion": 2,
     "gait": 3, "gait_clean": 3, "gait_events": 3, "gait_frontal": 3, "gait_options": 3, "gait_passes": 3,
-    "gait_pelvis": 3, "posture": 3, "capture": 3,
+    "gait_pelvis": 3, "gait_phases": 3, "posture": 3, "capture": 3,
     "mechanics": 4, "mechanics_params": 4, "mechanics_mc": 4, "mechanics_strides": 4,
     "report": 5, "figures": 5, "report_pictures": 5,
     "pipeline": 6, "cli": 7,

@@ -13,7 +13,8 @@ import pytest
 from scipy import signal
 
 from lean_video.errors import LeanVideoError
-from lean_video.gait import analyse_keypoints, frame_angles, summarise_sides
+from lean_video.gait import analyse_keypoints, frame_angles
+from lean_video.gait_phases import summarise_sides
 from lean_video.gait_clean import (
     butter_sos, fill_short_gaps, keypoints_to_track, lowpass_irregular, repair_swaps,
 )
