@@ -183,6 +183,20 @@ def hip_force_curve(curve: Sequence[Mapping] | Mapping[str, Sequence[float]], st
                    "lean toward stance side (°)", "hip force (× body weight)", height=320)
 
 
+def session_labels(rows: pd.DataFrame) -> list[str]:
+    """Axis label of each history row: its date, numbered where one side has several sessions that day.
+
+    Two clips filmed on one day would otherwise share one point of a category axis.
+    """
+    labels = []
+    seen: dict[tuple[str, str], int] = {}
+    totals = rows.groupby(["side", "date"]).size().to_dict()
+    for side, date in zip(rows["side"], rows["date"]):
+        seen[(side, date)] = seen.get((side, date), 0) + 1
+        labels.append(str(date) if totals[(side, date)] == 1 else f"{date} ({seen[(side, date)]})")
+    return labels
+
+
 def history_metric(rows: Sequence[Mapping], metric: str, y_title: str, title: str) -> go.Figure:
     """One metric across sessions, per side, with 95 % CI bars.
 
@@ -190,6 +204,8 @@ def history_metric(rows: Sequence[Mapping], metric: str, y_title: str, title: st
     ``{metric}_lo``, ``{metric}_hi`` (CI bounds may be None).
     """
     df = pd.DataFrame(list(rows))
+    if len(df):
+        df["x"] = session_labels(df)
     fig = go.Figure()
     for k, side in enumerate(SIDES):
         sub = df[(df["side"] == side) & df[f"{metric}_mean"].notna()] if len(df) else df
@@ -199,7 +215,7 @@ def history_metric(rows: Sequence[Mapping], metric: str, y_title: str, title: st
         hi = sub[f"{metric}_hi"].to_numpy(float) - m
         lo = m - sub[f"{metric}_lo"].to_numpy(float)
         fig.add_trace(go.Scatter(
-            x=sub["date"], y=m, mode="lines+markers", name=f"{side} leg",
+            x=sub["x"], y=m, mode="lines+markers", name=f"{side} leg",
             line={"color": SIDE_COLOURS[side], "width": 2}, marker={"size": 8},
             error_y={"type": "data", "symmetric": False, "array": np.nan_to_num(hi), "arrayminus": np.nan_to_num(lo),
                      "color": SIDE_COLOURS[side], "thickness": 1.5, "width": 6},

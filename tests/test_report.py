@@ -828,3 +828,16 @@ def test_reports_render_with_missing_sides_and_no_phases():
         s["phases"] = s["phases"][s["phases"]["stance_side"] == "left"] if len(s["phases"]) else s["phases"]
     hist = _text(render_history_report({"id": "HP-014"}, sessions))
     assert "Standing on the right leg" in hist and "lean n/a," in hist
+
+
+def test_two_sessions_on_one_day_get_two_points_in_the_history_plot():
+    # Two clips filmed at one visit shared one point of the category axis (report review, 2026-12-04).
+    from lean_video.figures import history_metric
+
+    rows = [{"date": d, "side": side, "lean_mean": m, "lean_lo": m - 1, "lean_hi": m + 1}
+            for d, m in (("2026-09-01", 6.0), ("2026-09-15", 5.0), ("2026-09-15", 4.0))
+            for side in ("left", "right")]
+    fig = history_metric(rows, "lean", "lean (deg)", "Lean")
+    for trace in fig.data:
+        assert list(trace.x) == ["2026-09-01", "2026-09-15 (1)", "2026-09-15 (2)"]
+        assert list(trace.y) == [6.0, 5.0, 4.0]
