@@ -415,6 +415,9 @@ def render_history_report(
     sessions = sorted(sessions, key=lambda s: str(s["date"]))
     rows = history_rows(sessions)
     flat = rows["left"] + rows["right"]
+    # tables and plots name two sessions of one day alike: "date (1)", "date (2)"
+    for row, label in zip(flat, figures.session_labels(pd.DataFrame(flat))):
+        row["label"] = label
     plots = [("plot-hist-lean", figures.history_metric(flat, "lean", "lean (°, + = toward stance side)",
                                                        "Lean toward the standing leg, per session (95% CI)")),
              ("plot-hist-force", figures.history_metric(flat, "force", "hip force change (%, − = less load)",
@@ -424,11 +427,12 @@ def render_history_report(
         plots.append(("plot-hist-drop", figures.history_metric(
             flat, "drop", "pelvic drop (°, + = swing side lower)",
             "Pelvic drop of the swing side, per session filmed with pelvis markers (95% CI)")))
-    prov = [{"date": s["date"], "version": s.get("version") or s["summary"].get("version"),
+    prov_labels = figures.session_labels(pd.DataFrame({"side": "all", "date": [s["date"] for s in sessions]}))
+    prov = [{"date": label, "version": s.get("version") or s["summary"].get("version"),
              "clip_sha256": s.get("clip_sha256") or (s["summary"].get("clip") or {}).get("sha256"),
              "params": _flatten({"settings": s.get("settings") or s["summary"].get("settings") or {},
                                  "mechanics": s["summary"].get("mechanics") or {},
-                                 "pose": _pose_params(s["summary"])})} for s in sessions]
+                                 "pose": _pose_params(s["summary"])})} for s, label in zip(sessions, prov_labels)]
     shared = prov[0]["params"] if all(p["params"] == prov[0]["params"] for p in prov) else None
     ctx = {"title": "Walking assessment: history", "csp": CSP, "plotly_js": Markup(plotly.offline.get_plotlyjs()),
            "client": _client_view(client), "clinic_name": clinic_name, "generated": generated_utc or _now(),

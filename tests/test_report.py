@@ -841,3 +841,12 @@ def test_two_sessions_on_one_day_get_two_points_in_the_history_plot():
     for trace in fig.data:
         assert list(trace.x) == ["2026-09-01", "2026-09-15 (1)", "2026-09-15 (2)"]
         assert list(trace.y) == [6.0, 5.0, 4.0]
+
+
+def test_two_sessions_on_one_day_are_told_apart_in_the_history_tables():
+    sessions = make_sessions()
+    sessions[2]["date"] = sessions[1]["date"]   # a second walk filmed at the same visit
+    tables = parse(render_history_report({"id": "HP-014"}, sessions)).tables
+    day = sessions[1]["date"]
+    assert [r[0] for r in tables["history-left"][2:]] == [sessions[0]["date"], f"{day} (1)", f"{day} (2)"]
+    assert [r[0] for r in tables["prov-sessions"][1:]] == [sessions[0]["date"], f"{day} (1)", f"{day} (2)"]
