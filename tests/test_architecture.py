@@ -19,7 +19,7 @@ PACKAGE = Path(__file__).resolve().parents[1] / "lean_video"
 STAGE = {
     "__init__": 0, "errors": 0, "files": 0, "stated_accuracy": 0,
     "video": 1,
-    "pose": 2, "pose_model": 2, "pose_markers": 2, "scene": 2, "scene_motion": 2,
+    "pose": 2, "pose_model": 2, "pose_markers": 2, "pose_handover": 2, "scene": 2, "scene_motion": 2,
     "gait": 3, "gait_clean": 3, "gait_events": 3, "gait_frontal": 3, "gait_options": 3, "gait_passes": 3,
     "gait_pelvis": 3, "gait_phases": 3, "posture": 3, "capture": 3,
     "mechanics": 4, "mechanics_params": 4, "mechanics_mc": 4, "mechanics_strides": 4,

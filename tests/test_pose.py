@@ -137,6 +137,11 @@ def test_pose_reexports_the_model_names():
                  "detect_still", "second_person"):
         assert getattr(pose, name) is getattr(pose_model, name), name
         assert name in pose.__all__, name
+    from lean_video import pose_handover
+
+    for name in ("COLUMNS", "read_handover", "write_handover"):
+        assert getattr(pose, name) is getattr(pose_handover, name), name
+        assert name in pose.__all__, name
 
 
 @pytest.mark.slow
