@@ -131,9 +131,11 @@ def fmt(value: Any, digits: int = 1, unit: str = "") -> str:
 def signed(value: Any, digits: int = 1, unit: str = "") -> str:
     """Like :func:`fmt` with a '+' before positive values (by the printed digits: never '+0.0')."""
     text = fmt(value, digits)
-    if text == "n/a" or not text.lstrip("-").replace(".", "", 1).isdigit():
+    try:
+        positive = float(text) > 0
+    except ValueError:
         return text                  # missing (or text passed through): no unit, no sign
-    return ("+" if float(text) > 0 else "") + text + unit
+    return ("+" if positive else "") + text + unit
 
 
 def _flatten(d: Mapping, prefix: str = "") -> list[tuple[str, str]]:

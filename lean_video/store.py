@@ -76,10 +76,6 @@ BUSY_TIMEOUT_MS = 30_000
 
 
 
-def _err(msg: str) -> LeanVideoError:
-    return LeanVideoError(msg)
-
-
 def _now_utc() -> str:
     return _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat()
 
@@ -154,7 +150,7 @@ class Store:
     def _require_client(self, client_id: str) -> None:
         validate_client_id(client_id)
         if self._conn.execute("SELECT 1 FROM clients WHERE id=?", (client_id,)).fetchone() is None:
-            raise _err(f"client {client_id!r} is not in the store at {self.path.parent.name}/; add the client first.")
+            raise LeanVideoError(f"client {client_id!r} is not in the store at {self.path.parent.name}/; add the client first.")
 
     # -- clients --------------------------------------------------------
     def upsert_client(
@@ -174,9 +170,9 @@ class Store:
             if isinstance(birth_year, bool) or not isinstance(birth_year, int) or not (
                 BIRTH_YEAR_MIN <= birth_year <= this_year
             ):
-                raise _err(f"birth_year must be a whole year {BIRTH_YEAR_MIN}-{this_year}, got {birth_year!r}; fix it or leave it out.")
+                raise LeanVideoError(f"birth_year must be a whole year {BIRTH_YEAR_MIN}-{this_year}, got {birth_year!r}; fix it or leave it out.")
         if side_of_interest is not None and side_of_interest not in ("left", "right"):
-            raise _err(f"side_of_interest must be 'left' or 'right', got {side_of_interest!r}; use the client's own side.")
+            raise LeanVideoError(f"side_of_interest must be 'left' or 'right', got {side_of_interest!r}; use the client's own side.")
         check_client_text(display_name=display_name, notes=notes)
         fields = {"display_name": display_name, "birth_year": birth_year, "mass_kg": mass_kg,
                   "height_m": height_m, "side_of_interest": side_of_interest, "notes": notes}
@@ -366,12 +362,12 @@ def _sqlite_error(exc: sqlite3.Error, path: Path) -> LeanVideoError:
     """A clinician-readable error for a failed write to the store (nothing was changed)."""
     text = str(exc).lower()
     if "locked" in text or "busy" in text:
-        return _err(f"the client store {path.name} is in use by another lean-video (waited "
+        return LeanVideoError(f"the client store {path.name} is in use by another lean-video (waited "
                     f"{BUSY_TIMEOUT_MS // 1000} s); let that one finish and run this again. Nothing was changed.")
     if "full" in text:
-        return _err(f"the disk holding the client store {path.name} is full; free some space and run this again. "
+        return LeanVideoError(f"the disk holding the client store {path.name} is full; free some space and run this again. "
                     "Nothing was changed.")
-    return _err(f"the client store {path.name} could not be written ({exc}); check the data folder and run "
+    return LeanVideoError(f"the client store {path.name} could not be written ({exc}); check the data folder and run "
                 "this again. Nothing was changed.")
 
 
@@ -406,13 +402,13 @@ def open_store(data_dir: str | os.PathLike | None = None) -> Store:
     try:
         folder.mkdir(parents=True, exist_ok=True, mode=0o700)
     except OSError as exc:
-        raise _err(f"data folder {folder} cannot be created ({exc.strerror}); pass a writable --data-dir.") from None
+        raise LeanVideoError(f"data folder {folder} cannot be created ({exc.strerror}); pass a writable --data-dir.") from None
     path = folder / DB_FILENAME
     new_file = not path.exists()
     try:
         conn = sqlite3.connect(path, isolation_level=None, timeout=BUSY_TIMEOUT_MS / 1000)
     except sqlite3.Error as exc:
-        raise _err(f"client store {path.name} in the data folder cannot be opened ({exc}); check the folder permissions.") from None
+        raise LeanVideoError(f"client store {path.name} in the data folder cannot be opened ({exc}); check the folder permissions.") from None
     if new_file:
         try:
             os.chmod(path, 0o600)   # client data: owner only
@@ -432,11 +428,11 @@ def open_store(data_dir: str | os.PathLike | None = None) -> Store:
         conn.close()
         if any(w in str(exc).lower() for w in ("locked", "busy", "full")):
             raise _sqlite_error(exc, path) from None
-        raise _err(f"client store {path.name} in the data folder is damaged or not a lean_video database ({exc}); "
+        raise LeanVideoError(f"client store {path.name} in the data folder is damaged or not a lean_video database ({exc}); "
                    "restore it from a backup or move it aside to start a new one.") from None
     except sqlite3.DatabaseError as exc:
         conn.close()
-        raise _err(f"client store {path.name} in the data folder is damaged or not a lean_video database ({exc}); "
+        raise LeanVideoError(f"client store {path.name} in the data folder is damaged or not a lean_video database ({exc}); "
                    "restore it from a backup or move it aside to start a new one.") from None
     return Store(path, conn)
 
