@@ -30,15 +30,17 @@ def test_a_failed_write_keeps_the_old_file_and_leaves_no_temporary(tmp_path, mon
     target.write_text("old", encoding="utf-8")
 
     def interrupted(src, dst):
-        raise KeyboardInterrupt   # Ctrl-C between writing the temporary file and moving it
+        # Ctrl-C between writing the temporary file and moving it; the message
+        # tells this interrupt from any other the clean-up might raise
+        raise KeyboardInterrupt("Ctrl-C before the move")
 
     monkeypatch.setattr(files.os, "replace", interrupted)
-    with pytest.raises(KeyboardInterrupt):
+    with pytest.raises(KeyboardInterrupt, match="Ctrl-C before the move"):
         atomic_write_text(target, "new")
     assert target.read_text(encoding="utf-8") == "old"
     assert [p.name for p in tmp_path.iterdir()] == ["report.html"]
 
 
 def test_missing_folder_is_an_error_not_a_silent_skip(tmp_path):
-    with pytest.raises(FileNotFoundError):
+    with pytest.raises(FileNotFoundError, match=r"No such file or directory: .*no_such_folder"):
         atomic_write_text(tmp_path / "no_such_folder" / "x.txt", "x")

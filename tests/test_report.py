@@ -637,7 +637,7 @@ def test_write_report_atomic_leaves_no_temp_files(tmp_path, monkeypatch):
     def boom(*a, **k):
         raise OSError("disk full")
     monkeypatch.setattr(os, "replace", boom)
-    with pytest.raises(OSError):
+    with pytest.raises(OSError, match="disk full"):   # the writer's own error, passed on unchanged
         write_report_atomic("<p>three</p>", target)
     assert os.listdir(tmp_path) == [target.name]
     assert target.read_text(encoding="utf-8") == "<p>two</p>"
