@@ -14,7 +14,7 @@ from scipy import signal
 
 from lean_video.errors import LeanVideoError
 from lean_video.gait import analyse_keypoints, frame_angles
-from lean_video.gait_phases import summarise_sides
+from lean_video.gait_phases import PARTIAL_PHASE, summarise_sides
 from lean_video.gait_clean import (
     butter_sos, fill_short_gaps, keypoints_to_track, lowpass_irregular, repair_swaps,
 )
@@ -312,7 +312,12 @@ def test_irregular_timestamps_and_gaps():
     f = r.frames.set_index("frame")
     assert f.loc[30:31, "valid"].all()
     assert not f.loc[80:94, "valid"].any()
-    assert r.summary["quality"]["n_dropped_phases"] >= 1
+    dropped = r.summary["quality"]["dropped_phases"]
+    assert len(dropped) == r.summary["quality"]["n_dropped_phases"] >= 1
+    assert all(d["reason"] and d["stance_side"] in ("left", "right") for d in dropped)  # each says why
+    # the phase running into the long gap cannot see its closing foot strike: a partial phase
+    assert any(d["start_s"] < w.time_s[80] and d["reason"].startswith(PARTIAL_PHASE) for d in dropped)
+    assert len(r.strides) > 0
     for _, s in r.strides.iterrows():  # no kept phase spans the long gap
         assert not (s["start_s"] < w.time_s[94] and s["end_s"] > w.time_s[80])
 
@@ -332,7 +337,9 @@ def test_summary_contents_and_json(toward):
     # cadence: true step time is cycle_s / 2 = 0.55 s -> 109.1 steps/min
     assert s["cadence_steps_per_min"] == pytest.approx(60 / 0.55, rel=0.03)
     assert s["settings"]["cutoff_hz"] == 6.0 and s["settings"]["max_gap_s"] == 0.1
-    assert all(d["reason"] for d in s["quality"]["dropped_phases"])
+    # this clean walk drops no phase; the reasons given for dropped phases are
+    # checked in test_irregular_timestamps_and_gaps, where one is dropped
+    assert len(s["quality"]["dropped_phases"]) == s["quality"]["n_dropped_phases"]
 
 
 def test_few_phases_warn():
@@ -807,5 +814,9 @@ def test_rest_points_use_speed_so_dropped_frames_do_not_look_like_motion():
     for name in ("left_heel", "left_ankle", "left_foot_index"):
         track[name][:, 1] = 700.0 + 6.0 * t
     iv = [(0.0, t[-1], 0, len(t), True, True)]
-    for _, name, seen, p, speed, still in _rest_points(track, t, "left", iv):
+    rest = list(_rest_points(track, t, "left", iv))
+    # each of the three foot points is judged (an empty result would assert nothing)
+    assert [name for _, name, *_ in rest] == ["left_heel", "left_ankle", "left_foot_index"]
+    for _, name, seen, p, speed, still in rest:
+        assert len(seen) == len(t)
         assert speed == pytest.approx(np.full(len(t) - 1, 6.0), rel=1e-9)

@@ -838,6 +838,8 @@ def test_two_sessions_on_one_day_get_two_points_in_the_history_plot():
             for d, m in (("2026-09-01", 6.0), ("2026-09-15", 5.0), ("2026-09-15", 4.0))
             for side in ("left", "right")]
     fig = history_metric(rows, "lean", "lean (deg)", "Lean")
+    # one trace per leg; without this the loop below would pass on a figure with no data
+    assert [trace.name for trace in fig.data] == ["left leg", "right leg"]
     for trace in fig.data:
         assert list(trace.x) == ["2026-09-01", "2026-09-15 (1)", "2026-09-15 (2)"]
         assert list(trace.y) == [6.0, 5.0, 4.0]

@@ -424,5 +424,9 @@ def test_exported_files_are_for_the_owner_only(store, tmp_path):
     import os
     import stat
     store.save_session("HP-014", "2026-11-03", SHA_A, SETTINGS, "0.1.0", SUMMARY, _strides())
-    for p in store.export_client("HP-014", tmp_path / "export"):
+    paths = store.export_client("HP-014", tmp_path / "export")
+    # every file the export writes, so an empty list cannot pass unchecked
+    assert sorted(p.name for p in paths) == sorted(p.name for p in (tmp_path / "export").iterdir())
+    assert len(paths) == 4
+    for p in paths:
         assert stat.S_IMODE(os.stat(p).st_mode) == 0o600, p
