@@ -16,12 +16,20 @@ def test_landmark_names_are_mediapipes_own():
     assert pose_model.LANDMARK_NAMES == tuple(lm.name.lower() for lm in mp.solutions.pose.PoseLandmark)
 
 
-def test_tile_windows_cover_the_frame():
-    boxes = pose_model._tile_boxes(720, 1280)
-    xs = [b[0] for b in boxes]
-    ys = [b[1] for b in boxes]
-    assert min(xs) - 360 / 2 <= 0 and max(xs) + 360 / 2 >= 720
-    assert min(ys) - 360 / 2 <= 0 and max(ys) + 360 / 2 >= 1280
+@pytest.mark.parametrize("width, height", [(720, 1280), (1280, 720), (1080, 1920)])
+def test_tile_windows_cover_the_frame(width, height):
+    # Each scale on its own must cover every pixel, the middle as well as the edges,
+    # and stay inside the frame; checked on a 4-px grid with each window's own side.
+    boxes = np.array(pose_model._tile_boxes(width, height))
+    sides = sorted(set(boxes[:, 2]), reverse=True)
+    assert sides == [min(width, height), min(width, height) / 2]
+    gx, gy = np.meshgrid(np.arange(0, width, 4) + 0.5, np.arange(0, height, 4) + 0.5)
+    for side in sides:
+        b = boxes[boxes[:, 2] == side]
+        assert (b[:, 0] - side / 2 >= 0).all() and (b[:, 0] + side / 2 <= width).all()
+        assert (b[:, 1] - side / 2 >= 0).all() and (b[:, 1] + side / 2 <= height).all()
+        inside = (np.abs(gx[..., None] - b[:, 0]) <= side / 2) & (np.abs(gy[..., None] - b[:, 1]) <= side / 2)
+        assert inside.any(axis=-1).all(), f"pixels outside every {side:g}-px window"
 
 
 # --- mirror averaging ---------------------------------------------------------
