@@ -232,6 +232,8 @@ def test_pooled_sd_and_mdc_hand_computed():
     assert sdp == pytest.approx(math.sqrt(6.5), rel=1e-12)
     assert mdc95(sdp, 10, 10) == pytest.approx(2.23474, abs=5e-5)
     # Unequal n: n_a=5, n_b=20 -> harmonic mean 8; SD 2: MDC = 1.96*sqrt(2)*2/sqrt(8) = 1.96.
+    # (sqrt(2)/sqrt(n_h) = sqrt(1/n_a + 1/n_b): the standard error of a difference of two
+    # independent means, textbook statistics, from memory; Weir 2005 gives the equal-n form.)
     assert mdc95(2.0, 5, 20) == pytest.approx(1.96, rel=1e-12)
 
 
@@ -246,12 +248,15 @@ def test_mean_ci95_student_t():
     # t(0.975, 2) = 4.302653 (standard t table, e.g. Altman 1991, Practical Statistics for Medical Research, App. B).
     m, sd, lo, hi, n = mean_ci95([4.0, 6.0, 8.0])
     assert (m, sd, n) == (6.0, 2.0, 3)
-    assert hi - m == pytest.approx(4.302653 * 2.0 / math.sqrt(3), abs=1e-5)
+    half = 4.302653 * 2.0 / math.sqrt(3)
+    assert hi - m == pytest.approx(half, abs=1e-5) and m - lo == pytest.approx(half, abs=1e-5)
 
 
 def test_history_rows_mdc_hand_computed():
     # Left lean per phase: session A [4, 6] (SD sqrt 2), session B [8, 10, 12] (SD 2).
-    # Pooled var = (1*2 + 2*4)/3 = 10/3; MDC95 = 1.96*sqrt(10/3*(1/2+1/3)) = 1.96*5/3 = 3.26667.
+    # Pooled var = (1*2 + 2*4)/3 = 10/3; MDC95 = 1.96*sqrt(10/3*(1/2+1/3)) = 1.96*5/3 = 3.26667
+    # (Weir 2005 MDC95 = 1.96*sqrt(2)*SEM, with the unequal-n standard error of a difference
+    # of two means, sd*sqrt(1/n_a + 1/n_b): textbook statistics, from memory).
     def ph(vals):
         return pd.DataFrame({"stance_side": ["left"] * len(vals), "lean_mean_deg": vals,
                              "hip_force_change_pct": [-1.0 * v for v in vals]})
