@@ -212,6 +212,14 @@ def analyse(
             log.warning(message)
             quality.setdefault("warnings", []).append(message)
     quality.setdefault("warnings", []).extend(mech_info.get("warnings", []))
+    if video is not None:
+        from lean_video.pose import lost_frames_note
+
+        lost = lost_frames_note(int(pose_info.get("frames_lost", 0)), int(clip["frame_count"]))
+        if lost:
+            quality["warnings"].append(lost)
+            if pose_info.get("from_cache"):  # the pose stage logged it only when it ran
+                log.warning(lost)
     summary["quality"] = quality
     params = mechanics.HipModelParams.from_body(height_m=options.height_m or mechanics.DEFAULT_HEIGHT_M)
     curve = mechanics.lean_sweep(params=params, mass_kg=options.mass_kg)

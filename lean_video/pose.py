@@ -81,6 +81,24 @@ MIN_FOUND_FRACTION = 0.1
 #: Share of the declared frames that may fail to decode before the file counts as truncated
 #: (common practice, no source: a phone clip decodes completely; 2 % already warns).
 MAX_LOST_FRACTION = 0.1
+#: Share of the declared frames lost that is worth a warning (common practice, no source:
+#: a container's declared count can be off by a frame or two, hence also "more than 2").
+WARN_LOST_FRACTION = 0.02
+
+
+def lost_frames_note(frames_lost: int, frame_count: int) -> str | None:
+    """The warning for frames a clip declares but that did not decode, or None when too few to matter.
+
+    Used by the pose stage (a log line) and by the analysis (a warning in the
+    summary, which the report shows), so a clip missing part of its walk says so
+    wherever it is read. More than :data:`MAX_LOST_FRACTION` is refused
+    outright by :func:`run_pose`.
+    """
+    if frames_lost > max(2, WARN_LOST_FRACTION * frame_count):
+        return (f"only {frame_count - frames_lost} of the {frame_count} frames the clip declares could be decoded "
+                f"({frames_lost} lost): the file may be truncated, and the walk in the missing part is not measured; "
+                "copy or export the clip from the phone again")
+    return None
 
 
 @dataclass(frozen=True)
@@ -427,9 +445,9 @@ def run_pose(
         raise LeanVideoError(
             f"only {len(times)} of the {info.frame_count} frames '{Path(path).name}' declares could be decoded: "
             "the file is truncated or damaged; copy or export the clip from the phone again.")
-    if lost > max(2, 0.02 * info.frame_count):
-        log.warning("only %d of %d declared frames could be decoded (%d lost): the file may be truncated",
-                    len(times), info.frame_count, lost)
+    note = lost_frames_note(lost, info.frame_count)
+    if note:
+        log.warning(note)
     if n_detected < MIN_FOUND_FRACTION * len(times):
         raise LeanVideoError(
             f"Nobody was found in '{Path(path).name}' (a person in {n_detected} of {len(times)} frames); film the "
