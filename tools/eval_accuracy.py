@@ -83,17 +83,21 @@ def marker_colour(truth: dict) -> str | None:
     return "green" if truth["walk"].get("pelvis_marker_rgb") is not None else None
 
 
-def evaluate(name: str, *, mirror: bool = True, video: Path | None = None, pictures: bool = False) -> dict:
+def evaluate(name: str, *, mirror: bool = True, video: Path | None = None, pictures: bool = False,
+             true_roll: bool = False) -> dict:
     """Compare the analysis of clip ``name`` (or of ``video``, a re-encoding of it) with its truth.
 
     With ``pictures``, the row also names the sides whose peak-lean picture was found.
+    With ``true_roll``, the camera roll the clip was rendered with is given to the
+    analysis (as ``--camera-roll-deg``) instead of being estimated from the scene.
     """
     from lean_video import pipeline
 
     truth = json.loads((DEMO / f"{name}.truth.json").read_text())
     analysis = pipeline.analyse(video if video is not None else DEMO / f"{name}.mp4",
-                                options=pipeline.AnalysisOptions(pose_mirror_average=mirror,
-                                                                 pelvis_markers=marker_colour(truth)))
+                                options=pipeline.AnalysisOptions(
+                                    pose_mirror_average=mirror, pelvis_markers=marker_colour(truth),
+                                    camera_roll_deg=float(truth["camera"]["roll_deg"]) if true_roll else None))
     s = analysis.summary
     ts = truth_sides(truth)
     ev = event_errors_ms(analysis.events, truth)
@@ -143,10 +147,12 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("names", nargs="*")
     parser.add_argument("--json", default=None)
     parser.add_argument("--no-mirror", action="store_true", help="pose model without its mirror-image pass")
+    parser.add_argument("--true-roll", action="store_true",
+                        help="give the analysis the rendered camera roll instead of estimating it")
     args = parser.parse_args(argv)
     manifest = json.loads((DEMO / "manifest.json").read_text())
     names = args.names or [c["name"] for c in manifest["clips"]]
-    rows = [evaluate(n, mirror=not args.no_mirror) for n in names]
+    rows = [evaluate(n, mirror=not args.no_mirror, true_roll=args.true_roll) for n in names]
     table = pd.DataFrame(rows).set_index("clip")
     with pd.option_context("display.width", 250, "display.max_columns", 40, "display.float_format", "{:.2f}".format):
         print(table.T.to_string())
