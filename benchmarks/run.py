@@ -83,6 +83,12 @@ def _job(name: str, clip: str) -> dict:
             for _, _, bgr in iter_bgr(clip):
                 model.process(np.ascontiguousarray(cv2.cvtColor(bgr, cv2.COLOR_BGR2RGB)))
                 frames += 1
+    elif name == "check":
+        # The quick capture check a clinician runs before the client leaves.
+        from lean_video import capture
+
+        capture.quick_check(clip)
+        frames = capture.QUICK_SAMPLES  # the frames it reads, not the clip's
     elif name == "decode_pose":
         from lean_video.pose import run_pose
 
@@ -125,8 +131,9 @@ def main() -> int:
         cache = Path(tmp) / "cache"
         plan = [("decode", "1080p_30s"), ("plain_loop", "1080p_30s"), ("decode_pose", "1080p_30s"),
                 ("analyse", "1080p_30s"), ("reanalyse", "1080p_30s"), ("analyse_no_mirror", "1080p_30s"),
+                ("check", "1080p_30s"),
                 ("decode", "4k_30s"),
-                ("analyse", "4k_30s"), ("analyse", "4k_60s")]
+                ("analyse", "4k_30s"), ("analyse", "4k_60s"), ("check", "4k_30s")]
         for name, key in plan:
             clip = clips[key]
             duration = probe_clip(clip).duration_s
@@ -147,6 +154,8 @@ def main() -> int:
         "analyse_4k_vs_1080p": by[("analyse", "4k_30s")]["wall_s"] / by[("analyse", "1080p_30s")]["wall_s"],
         "reanalyse_from_cache_s": by[("reanalyse", "1080p_30s")]["wall_s"],
         "peak_rss_mb_4k_60s": by[("analyse", "4k_60s")]["peak_rss_mb"],
+        "check_1080p_30s_s": by[("check", "1080p_30s")]["wall_s"],
+        "check_4k_30s_s": by[("check", "4k_30s")]["wall_s"],
     }
     machine = {"date": time.strftime("%Y-%m-%d"), "cpus": os.cpu_count(), "machine": platform.machine(),
                "python": platform.python_version(), "processor": platform.processor() or "unknown"}
