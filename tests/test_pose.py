@@ -125,8 +125,13 @@ def test_handover_folder_validation(tmp_path):
 
 
 def test_every_frontal_demo_clip_listed_exists():
-    for entry in demo_manifest()["clips"]:
-        assert (DEMO / f"{entry['name']}.mp4").is_file(), entry["name"]
+    listed = {entry["name"] for entry in demo_manifest()["clips"]}
+    # every clip in the manifest is on disk, and every rendered clip on disk is in the manifest
+    # (an empty or stale manifest would otherwise pass)
+    on_disk = {p.name.removesuffix(".truth.json") for p in DEMO.glob("*.truth.json")}
+    assert listed and listed == on_disk
+    for name in listed:
+        assert (DEMO / f"{name}.mp4").is_file(), name
 
 
 def test_pose_reexports_the_model_names():
