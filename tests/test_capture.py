@@ -80,12 +80,16 @@ def test_too_few_steps_flagged_by_analyse(tmp_path):
     assert "three steps" in checks["phases_per_side"]["suggestion"]
 
 
+def _sway_phases(seed: int = 4) -> np.ndarray:
+    """Phases (rad) of the rotation and the two shifts of :func:`_shaken`."""
+    return np.random.default_rng(seed).uniform(0, 2 * np.pi, 3)
+
+
 def _shaken(src, dst, *, amp_deg: float, amp_px: float, seed: int = 4) -> None:
     """Apply a known small rotation and shift to every frame (a hand-held phone)."""
     info = probe_clip(src)
-    rng = np.random.default_rng(seed)
     writer = cv2.VideoWriter(str(dst), cv2.VideoWriter_fourcc(*"mp4v"), info.fps, (info.width, info.height))
-    phase = rng.uniform(0, 2 * np.pi, 3)
+    phase = _sway_phases(seed)
     for i, t, rgb in iter_frames(src):
         # Slow sway at 0.7-1.3 Hz, the frequencies of a held phone while standing.
         ang = amp_deg * np.sin(2 * np.pi * 0.7 * t + phase[0])
@@ -100,6 +104,9 @@ def _shaken(src, dst, *, amp_deg: float, amp_px: float, seed: int = 4) -> None:
 
 
 def test_moderate_shake_is_stabilised(tmp_path):
+    """Hand-held sway of up to 1.5 deg and 10 px: stabilised, and still within the gait-signal tolerances of the truth."""
+    from tools.eval_accuracy import evaluate
+
     steady = pipeline.analyse(WALKER)
     shaky = tmp_path / "shaky.mp4"
     _shaken(WALKER, shaky, amp_deg=1.5, amp_px=10.0)
@@ -111,6 +118,48 @@ def test_moderate_shake_is_stabilised(tmp_path):
         # Issue tolerance for per-side mean lean: 1.0 degree.
         assert b == pytest.approx(a, abs=1.0), side
     assert abs(len(moved.strides) - len(steady.strides)) <= 1
+    # Against the rendered truth (the gait-signal targets): every steady phase found, none
+    # spurious, per-side lean within 1.0 deg, event medians within one frame (33 ms).
+    # Measured 2026-12-04: 9 of 9 phases, lean -0.05 / -0.13 deg, foot strike median 20 ms
+    # (max 65), foot off 8 ms (max 17); unshaken 9 of 9, +0.04 / +0.33, 24 ms and 6 ms.
+    r = evaluate(WALKER.stem, video=shaky)
+    assert r["phases_matched"] == r["phases_true"] and r["phases_spurious"] == 0
+    assert abs(r["left_lean_err"]) <= 1.0 and abs(r["right_lean_err"]) <= 1.0
+    assert r["foot_strike_median_ms"] <= 33 and r["foot_off_median_ms"] <= 33
+    # The scene roll is the first frame's, into whose pixels every frame is mapped: the
+    # camera's 0.4 deg less the sway's angle there (OpenCV's positive angle turns the picture
+    # counter-clockwise, against camera_roll_deg; measured 0.88 against 0.93). Issue
+    # tolerance for the roll: 0.5 deg.
+    assert r["roll"] == pytest.approx(r["roll_true"] - 1.5 * np.sin(_sway_phases()[0]), abs=0.5)
+
+
+@pytest.fixture(scope="module")
+def away_shaken(tmp_path_factory):
+    """The walk away from the camera with the same 1.5 deg / 10 px sway, compared with its truth."""
+    from tools.eval_accuracy import evaluate
+
+    shaky = tmp_path_factory.mktemp("away_shake") / "away_shaky.mp4"
+    _shaken(DEMO / "truth_walk_away.mp4", shaky, amp_deg=1.5, amp_px=10.0)
+    return evaluate("truth_walk_away", video=shaky)
+
+
+def test_moderate_shake_walking_away(away_shaken):
+    # Measured 2026-12-04 with this sway on three walks away (4 sway phases each, 12 runs):
+    # per-side lean within 0.72 deg of truth, no spurious phase, at most one phase missed
+    # (in 3 runs: the last foot strike, 7-8 m away, found late, early or not at all), event
+    # medians 11-36 ms (strikes) and 29-44 ms (foot offs; 25-47 ms on unshaken clips walking
+    # away). This run: 7 of 8 phases, lean +0.17 / +0.14 deg, strikes 21 ms, offs 32 ms.
+    r = away_shaken
+    assert r["direction"] == "away"
+    assert abs(r["left_lean_err"]) <= 1.0 and abs(r["right_lean_err"]) <= 1.0  # issue tolerance
+    assert r["phases_spurious"] == 0 and r["phases_matched"] >= r["phases_true"] - 1
+    assert r["foot_strike_median_ms"] <= 40 and r["foot_off_median_ms"] <= 50  # measured + a few ms
+
+
+@pytest.mark.xfail(strict=True, reason="walking away under moderate sway, one of 8 phases is missed: the last "
+                                       "foot strike, far from the camera, is found 339 ms late (measured 2026-12-04)")
+def test_target_every_phase_found_walking_away_with_shake(away_shaken):
+    assert away_shaken["phases_matched"] == away_shaken["phases_true"]
 
 
 def test_large_shake_is_refused(tmp_path):
