@@ -265,7 +265,7 @@ def analyse_keypoints(
     check_frame_rate(float(np.median(np.diff(time_s))), cutoff_hz=cutoff_hz, event_cutoff_hz=event_cutoff_hz)
     _require_landmarks(raw)
     frame, time_s, raw, real, gap_warning = _pad_gaps(frame, time_s, raw, max_gap_s=max_gap_s)
-    filtered, filled, n_swaps = clean_track(raw, time_s, max_gap_s=max_gap_s, cutoff_hz=cutoff_hz)
+    filtered, filled, n_swaps, n_blanked = clean_track(raw, time_s, max_gap_s=max_gap_s, cutoff_hz=cutoff_hz)
     if event_cutoff_hz == cutoff_hz:
         ev_track = filtered
     else:
@@ -368,6 +368,7 @@ def analyse_keypoints(
             "n_frames": int(len(frames)),
             "n_valid_frames": int(frames["valid"].sum()),
             "n_label_swaps_repaired": int(n_swaps),
+            "n_merged_sides_left_out": int(n_blanked),
             "n_side_relabellings": int(n_relabel),
             "n_short_contacts_dropped": int(n_short),
             "n_events_reordered": int(n_reordered),

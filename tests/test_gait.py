@@ -149,10 +149,72 @@ def test_swap_repair_restores_labels():
         bad[a][40:44], bad[b][40:44] = track[b][40:44], track[a][40:44]
     for a, b in (("left_hip", "right_hip"), ("left_shoulder", "right_shoulder")):
         bad[a][70], bad[b][70] = track[b][70], track[a][70]
-    fixed, n = repair_swaps(bad, t)
-    assert n == 5
+    fixed, n, blanked = repair_swaps(bad, t)
+    assert n == 5 and blanked == 0
     for k in track:
         assert np.allclose(fixed[k], track[k], equal_nan=True), k
+
+
+def test_swap_repair_undoes_a_longer_flip_but_not_a_whole_run():
+    w = make_walk()
+    frame, t, track = keypoints_to_track(w.keypoints)
+    legs = ("knee", "ankle", "heel", "foot_index")
+
+    def flipped(lo, hi):
+        bad = {k: v.copy() for k, v in track.items()}
+        for part in legs:
+            a, b = f"left_{part}", f"right_{part}"
+            bad[a][lo:hi], bad[b][lo:hi] = track[b][lo:hi], track[a][lo:hi]
+        return bad
+
+    # 12 frames flipped in the middle of the walk: undone (moving least wins over the swap cost)
+    fixed, n, blanked = repair_swaps(flipped(50, 62), t)
+    assert (n, blanked) == (12, 0)
+    for k in track:
+        assert np.allclose(fixed[k], track[k], equal_nan=True), k
+    # every frame flipped: the labels are consistent, so they are kept (sides are
+    # decided later from geometry, not from the model's labels)
+    fixed, n, blanked = repair_swaps(flipped(0, len(t)), t)
+    assert (n, blanked) == (0, 0)
+    assert np.allclose(fixed["left_ankle"], track["right_ankle"], equal_nan=True)
+
+
+def test_frame_with_merged_legs_is_blanked_not_carried_on():
+    # A frame where the model draws both legs between the real ones (it does so on
+    # a frame whose fast limb is blurred into two): neither labelling fits. Before
+    # it was blanked, it set the predicted velocity so that the next, correct frames
+    # were swapped for the rest of the walk.
+    w = make_walk()
+    frame, t, track = keypoints_to_track(w.keypoints)
+    bad = {k: v.copy() for k, v in track.items()}
+    legs = ("knee", "ankle", "heel", "foot_index")
+    for part in legs:
+        mid = (track[f"left_{part}"][60] + track[f"right_{part}"][60]) / 2
+        bad[f"left_{part}"][60] = mid + (0.5, 0.0)
+        bad[f"right_{part}"][60] = mid - (0.5, 0.0)
+    fixed, n, blanked = repair_swaps(bad, t)
+    assert (n, blanked) == (0, 1)
+    for part in legs:
+        for side in ("left", "right"):
+            name = f"{side}_{part}"
+            assert np.isnan(fixed[name][60]).all(), name
+            keep = np.ones(len(t), bool)
+            keep[60] = False
+            assert np.allclose(fixed[name][keep], track[name][keep], equal_nan=True), name
+    # the torso was clear in that frame and is kept
+    assert np.isfinite(fixed["left_hip"][60]).all()
+    # the analysis bridges the blanked frame and finds the same phases as without it
+    kp = w.keypoints.copy()
+    for part in legs:
+        for side, sign in (("left", 1), ("right", -1)):
+            sel = (kp["frame"] == frame[60]) & (kp["landmark"] == f"{side}_{part}")
+            kp.loc[sel, ["x_px", "y_px"]] = bad[f"{side}_{part}"][60]
+    ref = analyse_keypoints(w.keypoints, width=w.width, height=w.height)
+    got = analyse_keypoints(kp, width=w.width, height=w.height)
+    assert got.summary["quality"]["n_merged_sides_left_out"] == 1
+    assert len(got.strides) == len(ref.strides)
+    assert np.allclose(got.strides["start_s"], ref.strides["start_s"], atol=0.02)
+    assert (got.strides["stance_side"] == ref.strides["stance_side"]).all()
 
 
 def test_swapped_frames_do_not_change_results():
