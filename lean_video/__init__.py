@@ -8,7 +8,8 @@ No stage imports a later one. The library logs through :mod:`logging`; only
 :mod:`lean_video.cli` prints.
 """
 
-__version__ = "0.1.0"
+# Raise whenever results can change: every stored session, report and keypoint cache carries it.
+__version__ = "0.2.0"
 
 from lean_video.errors import LeanVideoError
 
