@@ -169,3 +169,16 @@ def match_events(found: pd.DataFrame, truth: pd.DataFrame, *, max_s=0.15):
         else:
             missed += 1
     return np.array(errs), missed
+
+
+def phases_found_in_place(strides: pd.DataFrame, phases: pd.DataFrame) -> int:
+    """How many true phases have exactly one found phase over their midpoint, on the same stance side.
+
+    A count of found phases alone would pass phases found in the wrong place or on the wrong side.
+    """
+    hits = 0
+    for _, p in phases.iterrows():
+        mid = (p["start_s"] + p["end_s"]) / 2
+        h = strides[(strides["start_s"] < mid) & (strides["end_s"] > mid)]
+        hits += int(len(h) == 1 and h["stance_side"].iloc[0] == p["stance_side"])
+    return hits
