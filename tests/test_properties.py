@@ -112,3 +112,60 @@ def test_non_finite_timestamps_are_refused(bad_time):
     kp.loc[kp["frame"] == 5, "time_s"] = bad_time
     with pytest.raises(LeanVideoError, match=r"keypoints time_s must be finite and strictly increasing"):
         analyse_keypoints(kp, width=BASE.width, height=BASE.height)
+
+
+_FRAME, _TIME, _TRACK = None, None, None
+
+
+def _walker_track():
+    """The noisy walker's track, labelled as the model would (made once)."""
+    global _FRAME, _TIME, _TRACK
+    if _TRACK is None:
+        from lean_video.gait_clean import keypoints_to_track
+
+        _FRAME, _TIME, _TRACK = keypoints_to_track(BASE.keypoints)
+    return _TIME, _TRACK
+
+
+@settings(max_examples=40, deadline=None)
+@given(data=st.data())
+def test_label_repair_never_leaves_a_wrong_label(data):
+    """Short flips and frames with both legs merged, placed anywhere apart: every label left
+    standing is right, only merged frames (or their neighbours) are blanked."""
+    from lean_video.gait_clean import SWAP_GROUPS, PAIRS, repair_swaps
+
+    t, track = _walker_track()
+    n = len(t)
+    bad = {k: v.copy() for k, v in track.items()}
+    legs = [name for part in SWAP_GROUPS["legs"] for name in PAIRS[part]]
+    pos, merged = 5, []
+    while True:
+        pos += data.draw(st.integers(6, 40), label="clean frames")
+        kind = data.draw(st.sampled_from(["flip", "merge"]), label="damage")
+        length = data.draw(st.integers(1, 10), label="flip length") if kind == "flip" else 1
+        if pos + length + 5 >= n:
+            break
+        for part in SWAP_GROUPS["legs"]:
+            a, b = PAIRS[part]
+            seg = slice(pos, pos + length)
+            if kind == "flip":
+                bad[a][seg], bad[b][seg] = track[b][seg], track[a][seg]
+            else:
+                mid = (track[a][seg] + track[b][seg]) / 2
+                bad[a][seg], bad[b][seg] = mid + (0.5, 0.0), mid - (0.5, 0.0)
+                merged.append(pos)
+        pos += length
+    fixed, _, blanked = repair_swaps(bad, t)
+    lost = np.zeros(n, bool)
+    for name in legs:
+        gone = np.isnan(fixed[name]).any(axis=1) & np.isfinite(track[name]).all(axis=1)
+        lost |= gone
+        kept = ~gone
+        assert np.allclose(fixed[name][kept], track[name][kept], equal_nan=True), name  # no wrong label
+    near_merge = np.zeros(n, bool)
+    for m in merged:
+        near_merge[max(m - 1, 0):m + 2] = True
+    assert not (lost & ~near_merge).any()          # nothing blanked away from a merged frame
+    assert all(lost[m] for m in merged)            # every merged frame blanked
+    for name in (n_ for part in SWAP_GROUPS["torso"] for n_ in PAIRS[part]):
+        assert np.allclose(fixed[name], track[name], equal_nan=True), name  # the torso was never touched
