@@ -337,13 +337,9 @@ def test_motion_blur_does_not_mix_up_the_feet(tmp_path):
     toward, one away): every phase but one on the walk away, lean within 0.40 deg, foot
     strikes walking toward found later (median 47-49 ms against 20-25 ms unblurred).
     """
-    from tests.conftest import ffmpeg
-    from tools.eval_accuracy import DEMO
+    from tools.eval_conditions import make
 
     name = "truth_strong_lean_front_light"
-    blurred = tmp_path / f"{name}_blurred.mp4"
-    ffmpeg("-i", str(DEMO / f"{name}.mp4"), "-vf", "tmix=frames=2", "-c:v", "libx264", "-crf", "23",
-           "-pix_fmt", "yuv420p", str(blurred))
-    r = evaluate(name, video=blurred)
+    r = evaluate(name, video=make(name, "blur2", tmp_path))
     assert r["phases_spurious"] == 0 and r["phases_matched"] >= r["phases_true"] - 2
     assert abs(r["left_lean_err"]) <= 1.0 and abs(r["right_lean_err"]) <= 1.0  # issue tolerance

@@ -5,7 +5,6 @@ from __future__ import annotations
 
 import json
 
-import cv2
 import numpy as np
 import pandas as pd
 import pytest
@@ -13,7 +12,7 @@ import pytest
 from lean_video import capture, pipeline
 from lean_video.errors import LeanVideoError
 from lean_video.pose import COLUMNS
-from lean_video.video import iter_frames, probe_clip
+from lean_video.video import probe_clip
 from tests.conftest import DEMO, demo_clip, ffmpeg
 
 WALKER = DEMO / "HP-014_2026-09-01.mp4"
@@ -80,27 +79,17 @@ def test_too_few_steps_flagged_by_analyse(tmp_path):
     assert "three steps" in checks["phases_per_side"]["suggestion"]
 
 
-def _sway_phases(seed: int = 4) -> np.ndarray:
-    """Phases (rad) of the rotation and the two shifts of :func:`_shaken`."""
-    return np.random.default_rng(seed).uniform(0, 2 * np.pi, 3)
-
-
 def _shaken(src, dst, *, amp_deg: float, amp_px: float, seed: int = 4) -> None:
     """Apply a known small rotation and shift to every frame (a hand-held phone)."""
-    info = probe_clip(src)
-    writer = cv2.VideoWriter(str(dst), cv2.VideoWriter_fourcc(*"mp4v"), info.fps, (info.width, info.height))
-    phase = _sway_phases(seed)
-    for i, t, rgb in iter_frames(src):
-        # Slow sway at 0.7-1.3 Hz, the frequencies of a held phone while standing.
-        ang = amp_deg * np.sin(2 * np.pi * 0.7 * t + phase[0])
-        dx = amp_px * np.sin(2 * np.pi * 1.1 * t + phase[1])
-        dy = amp_px * np.sin(2 * np.pi * 1.3 * t + phase[2])
-        m = cv2.getRotationMatrix2D((info.width / 2, info.height / 2), ang, 1.0)
-        m[:, 2] += (dx, dy)
-        frame = cv2.warpAffine(cv2.cvtColor(rgb, cv2.COLOR_RGB2BGR), m, (info.width, info.height),
-                               borderMode=cv2.BORDER_REPLICATE)
-        writer.write(frame)
-    writer.release()
+    from tools.eval_conditions import sway
+
+    sway(src, dst, amp_deg=amp_deg, amp_px=amp_px, seed=seed)
+
+
+def _sway_phases(seed: int = 4) -> np.ndarray:
+    from tools.eval_conditions import sway_phases
+
+    return sway_phases(seed)
 
 
 def test_moderate_shake_is_stabilised(tmp_path):
