@@ -122,7 +122,11 @@ def repair_swaps(
     Proc. IEEE 61:268). The cost of a swap keeps the model's own labels
     unless moving less outweighs it (a flip shorter than about twenty frames is
     undone); a flip over a whole pass is left, since which side is the
-    client's left is decided later from geometry, not from labels.
+    client's left is decided later from geometry, not from labels. Where a
+    labelling leaves a point nothing to be compared with in the neighbouring
+    frame (one side out of sight), that step costs the run's median left-right
+    distance, so the side still seen keeps its label; a run in which no frame
+    shows both sides keeps the model's labels.
 
     A frame is then blanked for the group when its labelling is not clearly
     better than the other one: its points are not within ``ratio`` times
@@ -178,23 +182,34 @@ def _runs(frames: np.ndarray, time_s: np.ndarray, max_step_s: float) -> list[np.
     return np.split(frames, cut)
 
 
-def _move(a: np.ndarray, b: np.ndarray) -> float:
-    """Mean distance between corresponding points seen in both (k, 2) sets, 0 if none."""
+def _move(a: np.ndarray, b: np.ndarray, *, none: float = 0.0) -> float:
+    """Mean distance between corresponding points seen in both (k, 2) sets, ``none`` if there are none."""
     d = np.linalg.norm(a - b, axis=1)
     d = d[np.isfinite(d)]
-    return float(d.mean()) if len(d) else 0.0
+    return float(d.mean()) if len(d) else none
 
 
 def _best_labels(L: np.ndarray, R: np.ndarray, *, swap_cost: float) -> np.ndarray:
     """Keep (0) or swap (1) per frame of one run: least total move plus swap costs (Viterbi)."""
     n = len(L)
     views = (np.concatenate([L, R], axis=1), np.concatenate([R, L], axis=1))  # (n, 2k, 2) each
-    sep = np.array([_move(L[i], R[i]) for i in range(n)])
+    sep = np.array([_move(L[i], R[i], none=np.nan) for i in range(n)])
+    if not np.isfinite(sep).any():
+        # no frame shows both sides, so nothing tells a swap from a movement: keep the model's labels
+        return np.zeros(n, int)
+    # Where only one side is seen, a labelling can put a point where the other frame has
+    # nothing to compare with; that must not count as no movement (the labels would then
+    # alternate from frame to frame for free), so it costs the run's typical left-right distance.
+    typical = float(np.nanmedian(sep))
+    sep = np.where(np.isfinite(sep), sep, typical)
     unary = np.c_[np.zeros(n), swap_cost * sep]
     total = unary[0].copy()
     back = np.zeros((n, 2), int)
     for i in range(1, n):
-        step = np.array([[_move(views[a][i - 1], views[b][i]) for b in (0, 1)] for a in (0, 1)])  # [prev, cur]
+        step = np.array([[_move(views[a][i - 1], views[b][i], none=np.nan) for b in (0, 1)]
+                         for a in (0, 1)])  # [prev, cur]
+        # frames with no point in common under either labelling say nothing about the labels
+        step = np.where(np.isfinite(step), step, typical if np.isfinite(step).any() else 0.0)
         cand = total[:, None] + step
         back[i] = np.argmin(cand, axis=0)
         total = cand[back[i], (0, 1)] + unary[i]

@@ -179,6 +179,32 @@ def test_swap_repair_undoes_a_longer_flip_but_not_a_whole_run():
     assert np.allclose(fixed["left_ankle"], track["right_ankle"], equal_nan=True)
 
 
+def test_swap_repair_with_one_leg_out_of_sight():
+    # The far leg below the visibility gate for a while (0.1 s and 0.5 s): the labels
+    # of the leg still seen are kept, and a short mislabelling of it is undone. Before,
+    # a labelling with no point to compare counted as no movement, so the seen leg's
+    # labels alternated from frame to frame (8 wrong swaps over 16 frames).
+    w = make_walk(noise_px=0.5)
+    frame, t, track = keypoints_to_track(w.keypoints)
+    legs = ("knee", "ankle", "heel", "foot_index")
+    for lo, hi in ((40, 43), (40, 56)):
+        hidden = {k: v.copy() for k, v in track.items()}
+        for part in legs:
+            hidden[f"right_{part}"][lo:hi] = np.nan
+        fixed, n, blanked = repair_swaps(hidden, t)
+        assert (n, blanked) == (0, 0), (lo, hi)
+        for k in track:
+            assert np.allclose(fixed[k], hidden[k], equal_nan=True), (lo, hi, k)
+    bad = {k: v.copy() for k, v in hidden.items()}
+    for part in legs:
+        a, b = f"left_{part}", f"right_{part}"
+        bad[a][46:50], bad[b][46:50] = hidden[b][46:50], hidden[a][46:50]
+    fixed, n, blanked = repair_swaps(bad, t)
+    assert (n, blanked) == (4, 0)
+    for k in track:
+        assert np.allclose(fixed[k], hidden[k], equal_nan=True), k
+
+
 def test_frame_with_merged_legs_is_blanked_not_carried_on():
     # A frame where the model draws both legs between the real ones (it does so on
     # a frame whose fast limb is blurred into two): neither labelling fits. Before
