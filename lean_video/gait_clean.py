@@ -400,7 +400,7 @@ def lowpass_irregular(
 def clean_track(
     track: dict[str, np.ndarray], time_s: np.ndarray, *, max_gap_s: float = 0.1,
     cutoff_hz: float = 6.0,
-) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray], int]:
+) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray], int, int]:
     """Swap repair, short-gap fill, then low-pass every landmark.
 
     Returns
