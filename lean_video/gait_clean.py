@@ -136,7 +136,9 @@ def repair_swaps(
 
     A frame is then blanked for the group when its labelling is not clearly
     better than the other one: its points are not within ``ratio`` times
-    the other labelling's distance of where its neighbours put them. There
+    the other labelling's distance of where its neighbours put them, judged
+    again against the frames left standing until none is unclear (so that
+    several merged frames in a row all go). There
     the model has merged the two sides (both legs drawn between the real
     ones, as on a frame whose fast limb is blurred into two). Such a frame
     used to set the predicted velocity of the sequential repair used before,
@@ -168,9 +170,20 @@ def repair_swaps(
             swap = run[labels == 1]
             L[swap], R[swap] = R[swap].copy(), L[swap].copy()
             n_swapped += len(swap)
-            unclear = run[_unclear(L[run], R[run], time_s[run], ratio=ratio)]
-            L[unclear], R[unclear] = np.nan, np.nan
-            n_blanked += len(unclear)
+            # Judged again against the frames left standing until none is unclear: the
+            # middle one of several merged frames in a row has merged neighbours, which
+            # make it look like them.
+            # Only the neighbours of frames just blanked need judging again, which keeps this linear.
+            kept, judge = run, np.arange(len(run))
+            while len(judge):
+                bad = _unclear(L[kept], R[kept], time_s[kept], ratio=ratio, only=judge)
+                if not bad.any():
+                    break
+                L[kept[bad]], R[kept[bad]] = np.nan, np.nan
+                n_blanked += int(bad.sum())
+                near = np.zeros(len(kept), bool)
+                near[np.clip(np.flatnonzero(bad)[:, None] + (-1, 1), 0, len(kept) - 1)] = True
+                kept, judge = kept[~bad], np.flatnonzero(near[~bad])
         for j, part in enumerate(group):
             out[PAIRS[part][0]], out[PAIRS[part][1]] = L[:, j], R[:, j]
     if n_swapped:
@@ -226,17 +239,19 @@ def _best_labels(L: np.ndarray, R: np.ndarray, *, swap_cost: float) -> np.ndarra
     return labels
 
 
-def _unclear(L: np.ndarray, R: np.ndarray, t: np.ndarray, *, ratio: float) -> np.ndarray:
+def _unclear(L: np.ndarray, R: np.ndarray, t: np.ndarray, *, ratio: float,
+             only: np.ndarray | None = None) -> np.ndarray:
     """Frames of one (labelled) run whose labels are not clearly better than the swapped ones.
 
     The reference is where the neighbouring frames put the points
-    (interpolated in time; the one neighbour at the ends of the run).
+    (interpolated in time; the one neighbour at the ends of the run). With
+    ``only``, just those frame indices are judged (the others come out False).
     """
     n = len(L)
     pts = np.concatenate([L, R], axis=1)
     flip = np.concatenate([R, L], axis=1)
     bad = np.zeros(n, bool)
-    for i in range(n):
+    for i in (range(n) if only is None else only):
         if 0 < i < n - 1:
             w = (t[i] - t[i - 1]) / (t[i + 1] - t[i - 1])
             ref = (1 - w) * pts[i - 1] + w * pts[i + 1]

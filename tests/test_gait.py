@@ -243,6 +243,33 @@ def test_frame_with_merged_legs_is_blanked_not_carried_on():
     assert (got.strides["stance_side"] == ref.strides["stance_side"]).all()
 
 
+def test_several_merged_frames_in_a_row_are_all_blanked():
+    # Three merged frames in a row: the middle one has merged neighbours and looked
+    # like them, so it stood (with both legs in one place) and, at frames 17-19, 66-68
+    # and 101-103, cost the analysis a phase. Judged again against the frames left
+    # standing, every merged frame goes, at the ends of the walk too, and nothing else.
+    w = make_walk(noise_px=0.5)
+    frame, t, track = keypoints_to_track(w.keypoints)
+    n = len(t)
+    legs = ("knee", "ankle", "heel", "foot_index")
+    for lo, length in ((17, 3), (66, 3), (101, 3), (50, 5), (0, 3), (n - 3, 3)):
+        bad = {k: v.copy() for k, v in track.items()}
+        seg = slice(lo, lo + length)
+        for part in legs:
+            a, b = f"left_{part}", f"right_{part}"
+            mid = (track[a][seg] + track[b][seg]) / 2
+            bad[a][seg], bad[b][seg] = mid + (0.5, 0.0), mid - (0.5, 0.0)
+        fixed, swapped, blanked = repair_swaps(bad, t)
+        assert (swapped, blanked) == (0, length), lo
+        gone = np.zeros(n, bool)
+        gone[seg] = True
+        for part in legs:
+            for side in ("left", "right"):
+                name = f"{side}_{part}"
+                assert np.isnan(fixed[name][gone]).all(), (lo, name)
+                assert np.allclose(fixed[name][~gone], track[name][~gone]), (lo, name)
+
+
 def test_swapped_frames_do_not_change_results():
     w = make_walk(noise_px=0.5, seed=2)
     ref = analyse_keypoints(w.keypoints, width=w.width, height=w.height)
