@@ -90,6 +90,7 @@ def _load_keypoints(input_path: Path, options: AnalysisOptions, *, cache_dir, pr
         # (absent for keypoints from another source), not this run's pose options
         made = clip.get("pose") if isinstance(clip.get("pose"), dict) else None
         info = {"source": "keypoints folder",
+                **{k: v for k, v in (made or {}).items() if k != "settings"},  # frame counts, frames_lost
                 "settings": (made or {}).get("settings", "not recorded (keypoints from another source)")}
         return table, clip, None, info, ()
     from lean_video.capture import SCENE_SAMPLES
@@ -212,13 +213,15 @@ def analyse(
             log.warning(message)
             quality.setdefault("warnings", []).append(message)
     quality.setdefault("warnings", []).extend(mech_info.get("warnings", []))
-    if video is not None:
+    n_lost, n_declared = pose_info.get("frames_lost"), clip.get("frame_count")
+    if all(isinstance(v, int) and not isinstance(v, bool) for v in (n_lost, n_declared)):
+        # also for a keypoints folder written by 'lean-video pose', which records the count
         from lean_video.pose import lost_frames_note
 
-        lost = lost_frames_note(int(pose_info.get("frames_lost", 0)), int(clip["frame_count"]))
+        lost = lost_frames_note(n_lost, n_declared)
         if lost:
             quality["warnings"].append(lost)
-            if pose_info.get("from_cache"):  # the pose stage logged it only when it ran
+            if video is None or pose_info.get("from_cache"):  # the pose stage logged it only when it ran here
                 log.warning(lost)
     summary["quality"] = quality
     params = mechanics.HipModelParams.from_body(height_m=options.height_m or mechanics.DEFAULT_HEIGHT_M)

@@ -80,6 +80,40 @@ def test_keypoint_folder_provenance_names_what_made_the_keypoints(tmp_path, reco
                     else "not recorded (keypoints from another source)")
 
 
+def test_keypoint_folder_says_frames_were_lost(tmp_path, caplog):
+    # 'lean-video pose' records in clip.json how many declared frames did not decode;
+    # analysing that folder must warn as analysing the clip does (it said nothing before).
+    import json
+
+    from lean_video import pipeline
+    try:
+        from tests.gait_walker import make_walk
+    except ImportError:  # tests/ not a package
+        from gait_walker import make_walk
+
+    w = make_walk(direction="toward", noise_px=0.5, seed=1)
+    n = int(w.keypoints["frame"].nunique())
+    folder = tmp_path / "kp"
+    folder.mkdir()
+    w.keypoints.to_csv(folder / "keypoints.csv", index=False)
+    clip = {"width": w.width, "height": w.height, "sha256": "c" * 64, "frame_count": n + 7,
+            "pose": {"settings": {"max_side_px": 1280}, "n_frames": n, "frames_lost": 7}}
+    (folder / "clip.json").write_text(json.dumps(clip))
+    with caplog.at_level("WARNING", logger="lean_video"):
+        a = pipeline.analyse(folder, options=pipeline.AnalysisOptions(camera_roll_deg=0.0))
+    assert a.summary["pose"]["frames_lost"] == 7
+    notes = [m for m in a.summary["quality"]["warnings"] if "may be truncated" in m]
+    assert notes == [f"only {n} of the {n + 7} frames the clip declares could be decoded (7 lost): the file may be "
+                     "truncated, and the walk in the missing part is not measured; copy or export the clip from "
+                     "the phone again"]
+    assert sum("may be truncated" in r.getMessage() for r in caplog.records) == 1
+    # keypoints from another source record no count: nothing to say
+    clip.pop("pose")
+    (folder / "clip.json").write_text(json.dumps(clip))
+    a = pipeline.analyse(folder, options=pipeline.AnalysisOptions(camera_roll_deg=0.0))
+    assert not [m for m in a.summary["quality"]["warnings"] if "may be truncated" in m]
+
+
 def test_keypoint_folder_markers_keep_their_recorded_colour():
     import pandas as pd
 
