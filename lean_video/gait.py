@@ -34,7 +34,7 @@ import numpy as np
 import pandas as pd
 
 from lean_video.errors import LeanVideoError
-from lean_video.gait_clean import clean_track, keypoints_to_track, pad_time_gaps
+from lean_video.gait_clean import clean_track, keypoints_to_track, lowpass_track, pad_time_gaps
 from lean_video.gait_events import (
     assign_client_sides, body_height_px, detect_contacts, foot_speeds,
     refine_event_times, rest_noise, smooth_body_height, walking_direction,
@@ -266,14 +266,11 @@ def analyse_keypoints(
     _require_landmarks(raw)
     frame, time_s, raw, real, gap_warning = _pad_gaps(frame, time_s, raw, max_gap_s=max_gap_s)
     filtered, filled, n_swaps, n_blanked = clean_track(raw, time_s, max_gap_s=max_gap_s, cutoff_hz=cutoff_hz)
-    if event_cutoff_hz == cutoff_hz:
-        ev_track = filtered
-    else:
-        ev_track = clean_track(raw, time_s, max_gap_s=max_gap_s, cutoff_hz=event_cutoff_hz)[0]
+    # the other cut-offs filter the same repaired, gap-filled track (the repair runs once)
+    ev_track = filtered if event_cutoff_hz == cutoff_hz else lowpass_track(filled, time_s, cutoff_hz=event_cutoff_hz)
     # keep the re-timing filter below Nyquist on low frame rates (0.4 fs, common practice, no source)
     fc_cutoff_hz = min(foot_centre_cutoff_hz, 0.4 / float(np.median(np.diff(time_s))))
-    fc_track = ev_track if fc_cutoff_hz == event_cutoff_hz else clean_track(
-        raw, time_s, max_gap_s=max_gap_s, cutoff_hz=fc_cutoff_hz)[0]
+    fc_track = ev_track if fc_cutoff_hz == event_cutoff_hz else lowpass_track(filled, time_s, cutoff_hz=fc_cutoff_hz)
     direction, slope, warnings = walking_direction(filled, time_s)
     warnings += gap_warning
     (filtered, ev_track, fc_track), n_relabel = assign_client_sides(

@@ -435,5 +435,9 @@ def clean_track(
     """
     repaired, n_swapped, n_blanked = repair_swaps(track, time_s, max_gap_s=max_gap_s)
     filled = {k: fill_short_gaps(v, time_s, max_gap_s=max_gap_s) for k, v in repaired.items()}
-    filtered = {k: lowpass_irregular(v, time_s, cutoff_hz=cutoff_hz) for k, v in filled.items()}
-    return filtered, filled, n_swapped, n_blanked
+    return lowpass_track(filled, time_s, cutoff_hz=cutoff_hz), filled, n_swapped, n_blanked
+
+
+def lowpass_track(filled: dict[str, np.ndarray], time_s: np.ndarray, *, cutoff_hz: float) -> dict[str, np.ndarray]:
+    """Every landmark of a repaired, gap-filled track low-passed (:func:`lowpass_irregular`)."""
+    return {k: lowpass_irregular(v, time_s, cutoff_hz=cutoff_hz) for k, v in filled.items()}
