@@ -128,19 +128,19 @@ def repair_swaps(
     flip of up to 14 frames inside a run, of 16-20 some; at a run's end every
     flip of up to 5 frames at 30 fps, of 8 at 60 fps). A flip over a whole
     pass is left, since which side is the client's left is decided later
-    from geometry, not from labels. Where a
-    labelling leaves a point nothing to be compared with in the neighbouring
-    frame (one side out of sight), that step costs the run's median left-right
-    distance, so the side still seen keeps its label; a run in which no frame
-    shows both sides keeps the model's labels.
+    from geometry, not from labels. Where a labelling leaves a point nothing
+    to be compared with in the neighbouring frame (one side out of sight),
+    that step costs the run's median left-right distance, so the side still
+    seen keeps its label; a run in which no frame shows both sides keeps the
+    model's labels.
 
     A frame is then blanked for the group when its labelling is not clearly
-    better than the other one: its points are not within ``ratio`` times
-    the other labelling's distance of where its neighbours put them, judged
-    again against the frames left standing until none is unclear (so that
-    several merged frames in a row all go). There
-    the model has merged the two sides (both legs drawn between the real
-    ones, as on a frame whose fast limb is blurred into two). Such a frame
+    better than the other one: its points are not within ``ratio`` times the
+    other labelling's distance of where its neighbours put them, judged again
+    against the frames left standing until none is unclear (so that several
+    merged frames in a row all go). There the model has merged the two sides
+    (both legs drawn between the real ones, as on a frame whose fast limb is
+    blurred into two). Such a frame
     used to set the predicted velocity of the sequential repair used before,
     so that the following, correct frames were swapped for 20-30 frames
     (measured on a rendered clip with two-frame motion blur: 1 of 9 phases
