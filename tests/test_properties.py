@@ -130,8 +130,10 @@ def _walker_track():
 @settings(max_examples=40, deadline=None)
 @given(data=st.data())
 def test_label_repair_never_leaves_a_wrong_label(data):
-    """Short flips and frames with both legs merged, placed anywhere apart: every label left
-    standing is right, only merged frames (or their neighbours) are blanked."""
+    """Short flips (1-10 frames) and frames with both legs merged, placed at random at least 6
+    frames apart and away from the ends of the walk (a flip there has one edge only, see
+    repair_swaps): every label left standing is right, only merged frames (or their
+    neighbours) are blanked, and the count returned says how many."""
     from lean_video.gait_clean import SWAP_GROUPS, PAIRS, repair_swaps
 
     t, track = _walker_track()
@@ -167,5 +169,6 @@ def test_label_repair_never_leaves_a_wrong_label(data):
         near_merge[max(m - 1, 0):m + 2] = True
     assert not (lost & ~near_merge).any()          # nothing blanked away from a merged frame
     assert all(lost[m] for m in merged)            # every merged frame blanked
+    assert blanked == int(lost.sum())              # only the legs were damaged: one blank per lost frame
     for name in (n_ for part in SWAP_GROUPS["torso"] for n_ in PAIRS[part]):
         assert np.allclose(fixed[name], track[name], equal_nan=True), name  # the torso was never touched
