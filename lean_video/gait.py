@@ -39,7 +39,9 @@ from lean_video.gait_events import (
     assign_client_sides, body_height_px, detect_contacts, foot_speeds,
     refine_event_times, rest_noise, smooth_body_height, walking_direction,
 )
-from lean_video.gait_frontal import bound_by_double_support, drop_short_contacts, foot_centre_events, order_events
+from lean_video.gait_frontal import (
+    bound_by_double_support, drop_short_contacts, foot_centre_events, order_events, untime_cut_strikes,
+)
 from lean_video.gait_options import check_frame_rate, check_gait_options
 from lean_video.gait_pelvis import line_obliquity_deg, marker_obliquity
 from lean_video.gait_phases import SIDES, phases_from_contacts, summarise_sides
@@ -305,10 +307,12 @@ def analyse_keypoints(
             intervals[side], _ = refine_event_times(
                 ev_track, time_s, side, scale, intervals[side], floor_fraction=footprint_tolerance,
                 sigma_rel=sigma)
-    n_short = 0
+    n_short = n_cut = 0
     for side in SIDES:
         intervals[side], n = drop_short_contacts(intervals[side])
         n_short += n
+        intervals[side], n = untime_cut_strikes(intervals[side])
+        n_cut += n
     if foot_centre_timing:
         intervals = {side: foot_centre_events(
             fc_track, time_s, side, intervals[side], direction=direction,
@@ -368,6 +372,7 @@ def analyse_keypoints(
             "n_merged_sides_left_out": int(n_blanked),
             "n_side_relabellings": int(n_relabel),
             "n_short_contacts_dropped": int(n_short),
+            "n_strikes_cut_by_clip_end": int(n_cut),
             "n_events_reordered": int(n_reordered),
             "n_events_bounded_by_double_support": int(n_bounded),
             "n_pelvis_marker_frames": 0 if markers is None else int(round(markers.seen_fraction * len(frame))),

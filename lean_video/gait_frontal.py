@@ -361,6 +361,59 @@ def drop_short_contacts(intervals: list, *, min_fraction: float = 0.5) -> tuple[
     return kept, len(intervals) - len(kept)
 
 
+def untime_cut_strikes(intervals: list, *, min_fraction: float = 0.2) -> tuple[list, int]:
+    """Leave untimed the foot strike of a contact cut short by the end of the tracked stretch.
+
+    A contact that runs into the end of the tracked stretch (clip end, or the
+    person leaving the picture) shows its foot strike, but too little of the
+    stance after it to find where the foot comes to rest: the forefoot is
+    still coming down after the heel lands (loading response, about the first
+    10 % of the cycle; Perry & Burnfield 2010, ch. 1, from memory). From exact
+    keypoints, a strike 0.2 s before the end of a rendered slow walk was
+    timed 110 ms late, the toe landing in the last frames. Where such a cut
+    contact is shorter than ``min_fraction`` times the foot's median fully
+    seen contact (at least three), its strike is marked unseen. The default,
+    a fifth of the stance, lies just past the loading response (a tenth of
+    the cycle is a sixth of a 60 % stance), when the foot is flat (common
+    practice, no source). The contact is
+    kept; the single-support phase that the strike would close is then
+    partial and left out. A contact cut by the *start* of the stretch is left
+    alone: its foot off is timed from the toe, which rests until it leaves
+    (on the same walk such a foot off 0.37 s into the clip was 11 ms off).
+    Measured: from exact keypoints on the 41 rendered clips the rule left
+    4 strikes untimed (110, 226, 70 and 67 ms off before) and changed no
+    other event; through the pose model it left 2 untimed (a clip's worst
+    strike went from 111 to 71 and from 68 to 46 ms) and every phase was
+    still found. With 0.5 instead, 9 complete phases were lost.
+
+    Parameters
+    ----------
+    intervals : list
+        One foot's contacts, layout of :func:`lean_video.gait_events.detect_contacts`.
+    min_fraction : float, keyword-only
+        Shortest cut contact, as a fraction of the median full contact, whose
+        strike is still timed.
+
+    Returns
+    -------
+    intervals : list
+        Layout of :func:`lean_video.gait_events.detect_contacts`.
+    n_untimed : int
+        How many strikes were marked unseen.
+    """
+    full = [iv[1] - iv[0] for iv in intervals if iv[4] and iv[5]]
+    if len(full) < 3:
+        return list(intervals), 0
+    floor = min_fraction * float(np.median(full))
+    out, n = [], 0
+    for t_s, t_o, i0, i1, s_seen, o_seen in intervals:
+        if s_seen and not o_seen and t_o - t_s < floor:
+            s_seen = False
+            n += 1
+        out.append((t_s, t_o, i0, i1, s_seen, o_seen))
+    return out, n
+
+
 def order_events(left: list, right: list, *, direction: str, max_gap_s: float = 0.2) -> tuple[list, list, int]:
     """Make each foot strike come before the other foot's foot off (double support exists).
 

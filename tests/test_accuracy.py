@@ -59,6 +59,12 @@ HELDOUT2_AWAY = ("truth_heldout2_petite_away_dim", "petite walker filmed from be
                  "the lean over the left leg larger; each phase within 1.8")
 HELDOUT2_60FPS = ("truth_heldout2_both_lean_60fps", "equal sides at 60 fps lit from overhead (held out): left "
                   "single support 0.05 s short and right 0.06 s long, symmetry index off by 23.2 %")
+# Four more (truth_heldout3_*) rendered on the afternoon of 2026-12-04 and measured once as
+# rendered: camera roll within 0.05 deg, 34 of 34 phases, none spurious, per-side lean within
+# 0.54 deg, pelvic drop from markers within 0.38 deg (a phase 1.82); one misses a target here.
+HELDOUT3_SLOW = ("truth_heldout3_slow_flexed_dark", "slow walker with a 65 % stance (held out): foot offs 38 ms early "
+                 "(median), 25 ms early from exact keypoints: the second slow walk where the toe's peak upward image "
+                 "speed comes before the foot leaves the floor")
 MARKED = [c["name"] for c in demo_manifest()["clips"] if c["walk"].get("pelvis_marker_rgb") is not None]
 LONG_DS = ("truth_slow_long_double_support", "slow walk with a 17 % double support: foot offs found 49 ms early "
            "(median), as early from exact keypoints (test_gait_truth_clips): the foot-off method, not the pose model")
@@ -93,9 +99,9 @@ def test_direction_roll_and_lean(name):
         err = r[f"{side}_lean_err"]
         if r[f"{side}_lean_true"] is None or err is None:
             continue
-        # Issue target: within 1.0 deg. Measured today: <= 0.94 deg on 32 of 37 clips, median
-        # 0.29 (0.67 at most on the three held out on 2026-12-03; 0.74 on three of the four held
-        # out on 2026-12-04, 1.09 on the fourth); 1.28 and 1.32 on the strong-lean walker lit from either side, 1.05 on the
+        # Issue target: within 1.0 deg. Measured today: <= 0.94 deg on 36 of 41 clips, median
+        # 0.26 (0.67 at most on the three held out on 2026-12-03; 0.74 on three of the four held
+        # out on 2026-12-04, 1.09 on the fourth; 0.54 on the four held out that afternoon); 1.28 and 1.32 on the strong-lean walker lit from either side, 1.05 on the
         # walker filmed from behind with a 9 deg lean, 1.07 on a marker client lit from 60 deg
         # (xfails above).
         # Before late strikes were bounded by a minimum double support (gait_frontal.
@@ -103,7 +109,7 @@ def test_direction_roll_and_lean(name):
         # the mirror-image pass of the pose model (first 11 clips) 1.28 and 0.48.
         assert abs(err) <= 1.0, (side, err)
     if r["phase_lean_err_max"] is not None:
-        # Each matched phase's mean lean within 2.0 deg (issue target; measured <= 1.77 on 36
+        # Each matched phase's mean lean within 2.0 deg (issue target; measured <= 1.77 on 40
         # clips, 2.72 on the strong-lean walker lit from the other side).
         assert r["phase_lean_err_max"] <= 2.0
 
@@ -112,7 +118,8 @@ def test_direction_roll_and_lean(name):
 def test_phases_found(name):
     r = row(name)
     # Issue target, met: every steady single-support phase found, none
-    # spurious: 302 of 304 on 37 clips (34 of 34 on the four held out on 2026-12-04, 23 of 23 on
+    # spurious: 336 of 338 on 41 clips (34 of 34 on the four held out on the afternoon of
+    # 2026-12-04, 34 of 34 on the four held out that morning, 23 of 23 on
     # the three held out on 2026-12-03; 228 of 228 on the first 28, 191 of 191 on the first 24 (188 before a walking-away strike found
     # within a quarter stride of the foot's own foot off was taken for a
     # mid-swing pause, gait_frontal.foot_centre_events); 78 of 88 on the first 11 before double
@@ -172,11 +179,11 @@ def test_event_timing_away(name):
     assert r["foot_strike_median_ms"] <= 47
 
 
-@pytest.mark.parametrize("name", [c for c in clips(LONG_DS) if c in TOWARD])
+@pytest.mark.parametrize("name", [c for c in clips(LONG_DS, HELDOUT3_SLOW) if c in TOWARD])
 def test_foot_off_timing_toward(name):
     r = row(name)
-    # Foot off, walking toward: measured median 6-31 ms on 21 clips (target 33 ms
-    # met), 49 ms on the slow walk with a long double support (xfail above);
+    # Foot off, walking toward: measured median 6-31 ms on 30 clips (target 33 ms
+    # met), 49 and 38 ms on the two slow walks with a long double support (xfails above);
     # single outliers up to 150 ms remain (target: none beyond 100 ms).
     assert r["foot_off_median_ms"] <= 33
 
@@ -225,7 +232,7 @@ def test_single_support_time_per_side(name):
 
 @pytest.mark.xfail(strict=True, reason="target not met on the strong-lean walker lit from either side: 1.28 and "
                                        "1.32 deg, 1.05 and 1.09 on two walkers filmed from behind, 1.07 on a marker "
-                                       "client lit from 60 deg (0.94 on the other 32 clips)")
+                                       "client lit from 60 deg (0.94 on the other 36 clips)")
 def test_target_per_side_lean_within_one_degree():
     # Met on the first 15 clips since both feet share one footprint tolerance walking toward.
     errs = per_side_lean_errors()
@@ -254,7 +261,7 @@ def test_pelvic_drop_from_markers(name):
     r = row(name)
     assert r["pelvis_source"] == "pelvis markers"
     for side in ("left", "right"):
-        # Issue target: per-side pelvic drop within 1.5 deg of truth. Measured on the 8
+        # Issue target: per-side pelvic drop within 1.5 deg of truth. Measured on the 9
         # marker clips (true drop 0-5.7 deg per side): -0.57 to +0.56 deg walking toward,
         # -1.32 to +0.51 walking away (the heavier walker, held out, whose phases are found
         # worst; before frames with markers under 20 px apart were left out: -1.49 and a
@@ -263,7 +270,8 @@ def test_pelvic_drop_from_markers(name):
         if r[f"{side}_drop_true"] >= 1.0:
             # the Trendelenburg direction is right wherever there is a drop to see
             assert r[f"{side}_drop_err"] + r[f"{side}_drop_true"] > 0, side
-    # Each matched phase's mean drop: measured within 1.56 deg; bound 2.0 like each phase's lean.
+    # Each matched phase's mean drop: measured within 1.82 deg (1.56 before the short client at
+    # 24 fps held out on the afternoon of 2026-12-04); bound 2.0 like each phase's lean.
     assert r["phase_drop_err_max"] <= 2.0
 
 

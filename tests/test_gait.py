@@ -19,7 +19,9 @@ from lean_video.gait_clean import (
     butter_sos, fill_short_gaps, keypoints_to_track, lowpass_irregular, repair_swaps,
 )
 from lean_video.gait_events import merge_overlapping, refine_event_times, rest_noise, walking_direction
-from lean_video.gait_frontal import bound_by_double_support, drop_short_contacts, foot_centre_events, order_events
+from lean_video.gait_frontal import (
+    bound_by_double_support, drop_short_contacts, foot_centre_events, order_events, untime_cut_strikes,
+)
 
 try:
     from tests.gait_walker import make_walk, match_events, phases_found_in_place
@@ -644,6 +646,22 @@ def test_short_mid_swing_contact_is_dropped():
     assert n == 1 and (1.9, 2.1, 57, 63, True, True) not in kept
     assert kept[0] == iv[0] and kept[-1] == iv[-1]
     assert drop_short_contacts(iv[:3]) == (iv[:3], 0)  # too few full contacts to judge
+
+
+def test_strike_of_a_contact_cut_short_by_the_clip_end_is_left_untimed():
+    # stance 0.7 s (median of the full contacts); the last contact runs into the
+    # end of the tracked stretch 0.1 s after its strike (< 0.2 x 0.7 s): too little
+    # stance to find the footprint, so the strike is not reported. A cut contact of
+    # 0.3 s keeps its strike; a contact cut by the start keeps its foot off.
+    full = [(1.0, 1.7, 30, 51, True, True), (2.2, 2.9, 66, 87, True, True), (3.4, 4.1, 102, 123, True, True)]
+    start = (0.0, 0.1, 0, 3, False, True)
+    out, n = untime_cut_strikes([start, *full, (4.6, 4.7, 138, 141, True, False)])
+    assert n == 1
+    assert out[-1] == (4.6, 4.7, 138, 141, False, False)
+    assert out[:4] == [start, *full]
+    kept = [*full, (4.6, 4.9, 138, 147, True, False)]
+    assert untime_cut_strikes(kept) == (kept, 0)
+    assert untime_cut_strikes(full[:2] + [(4.6, 4.7, 138, 141, True, False)])[1] == 0  # too few full contacts
 
 
 # --- event order (order_events) ----------------------------------------------

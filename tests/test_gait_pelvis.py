@@ -112,9 +112,14 @@ def _walk_with_markers(hide_phase: int | None = None):
     return w, kp
 
 
-def _true_drop(w, side):
+def _true_drop(w, side, found):
+    """The walker's true mean drop of the swing side over the phases on ``side`` that the analysis found.
+
+    Over the found windows, not the true ones: the drop peaks mid-phase, so a found phase a few
+    frames shorter than the true one has a larger true mean (the event timing is tested elsewhere).
+    """
     vals = []
-    for _, ph in w.phases[w.phases["stance_side"] == side].iterrows():
+    for _, ph in found[found["stance_side"] == side].iterrows():
         sel = (w.time_s >= ph["start_s"]) & (w.time_s <= ph["end_s"])
         vals.append(np.mean(w.obliquity_deg[sel] * (1.0 if side == "right" else -1.0)))
     return float(np.mean(vals))
@@ -125,9 +130,12 @@ def test_gait_stage_measures_pelvic_drop_from_markers():
     r = analyse_keypoints(kp, width=w.width, height=w.height)
     assert r.summary["pelvic_obliquity_source"] == "pelvis markers"
     for side in ("left", "right"):
-        # Known answer: the walker's true mean drop of the swing side (hip points are level,
-        # so only the markers can give it); found phases differ a little from true ones.
-        assert r.summary["sides"][side]["pelvic_drop_mean_deg"] == pytest.approx(_true_drop(w, side), abs=0.4)
+        # Known answer: the walker's true mean drop of the swing side over the found phases (hip
+        # points are level, so only the markers can give it).
+        assert r.summary["sides"][side]["n_phases"] >= 3
+        # Measured within 0.01 deg (the 6 Hz filter); 0.4 allowed while true windows were compared.
+        assert r.summary["sides"][side]["pelvic_drop_mean_deg"] == pytest.approx(_true_drop(w, side, r.strides),
+                                                                                  abs=0.1)
     without = analyse_keypoints(kp[~kp["landmark"].str.endswith("pelvis_marker")], width=w.width, height=w.height)
     assert without.summary["pelvic_obliquity_source"] == "hip landmarks"
     assert abs(without.summary["sides"]["right"]["pelvic_drop_mean_deg"]) < 0.5

@@ -236,7 +236,7 @@ def test_foreign_sqlite_file_refused(tmp_path):
 
 def _writer(data_dir, client_id, sha, barrier):
     s = open_store(data_dir)
-    barrier.wait()                # start writing at the same moment
+    barrier.wait(timeout=120)     # start writing at the same moment (a lost partner raises, not hangs)
     for k in range(5):
         s.upsert_client(client_id, notes=f"round {k}")
         s.save_session(client_id, "2026-11-03", sha[:-1] + str(k), SETTINGS, "0.1.0", SUMMARY, _strides(8))
@@ -248,10 +248,16 @@ def test_two_processes_writing_both_land(tmp_path):
     barrier = ctx.Barrier(2)
     procs = [ctx.Process(target=_writer, args=(tmp_path, cid, sha, barrier))
              for cid, sha in (("HP-100", SHA_A), ("HP-101", SHA_B))]
-    for p in procs:
-        p.start()
-    for p in procs:
-        p.join(60)
+    try:
+        for p in procs:
+            p.start()
+        for p in procs:
+            p.join(180)
+    finally:
+        for p in procs:    # a writer left waiting would keep the test session from ending
+            if p.is_alive():
+                p.terminate()
+                p.join(10)
     assert [p.exitcode for p in procs] == [0, 0]
     with open_store(tmp_path) as s:
         assert {c.id: c.n_sessions for c in s.list_clients()} == {"HP-100": 5, "HP-101": 5}

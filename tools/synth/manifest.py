@@ -296,6 +296,54 @@ def default_manifest() -> dict:
          CameraParams(height_m=1.1, pitch_deg=-4.0, roll_deg=2.0),
          RoomParams(light_azimuth_deg=-25, light_elevation_deg=50), {},
          "held out (2026-12-04): pelvis markers, camera rolled 2 deg, light from the left"),
+        # Session of 2026-12-04 (afternoon): four more, rendered and measured once as
+        # rendered (held out), closer to the clinic's clients: a slow walker with a long
+        # double support and a forward-flexed trunk in a dark shirt; a walk away with
+        # wide, toed-out steps, a habitual lean and a rolled camera, stored in HEVC; a
+        # heavier walker off the camera axis with a yawed camera and a habitual lean;
+        # a short walker with pelvis markers at 24 fps in a bright room with warm walls.
+        ("truth_heldout3_slow_flexed_dark", WalkParams(seed=61, start_distance_m=7.0, end_distance_m=2.2,
+                                                       speed_m_s=0.6, cadence_steps_min=86, stance_fraction=0.65,
+                                                       height_m=1.64, width_scale=1.15, lean_right_stance_deg=9,
+                                                       lean_left_stance_deg=2, pelvic_drop_right_stance_deg=3,
+                                                       trunk_flexion_deg=7.0, arm_swing_deg=8.0,
+                                                       shirt_rgb=(0.12, 0.15, 0.25), trousers_rgb=(0.45, 0.45, 0.45)),
+         CameraParams(height_m=1.05, pitch_deg=-4.0),
+         RoomParams(light_azimuth_deg=-30, light_elevation_deg=50), {},
+         "held out (2026-12-04 pm): slow walker (0.6 m/s, stance 65 %), trunk flexed 7 deg, dark shirt, "
+         "lean 9 deg over the right leg"),
+        ("truth_heldout3_away_wide_roll", WalkParams(seed=62, start_distance_m=2.1, end_distance_m=7.3,
+                                                     speed_m_s=0.85, cadence_steps_min=96, step_width_m=0.16,
+                                                     toe_out_deg=12.0, height_m=1.74, width_scale=1.05,
+                                                     lean_left_stance_deg=7, lean_right_stance_deg=3,
+                                                     lean_offset_deg=-1.0, pelvic_drop_left_stance_deg=2,
+                                                     shirt_rgb=(0.5, 0.2, 0.3), trousers_rgb=(0.2, 0.22, 0.25)),
+         CameraParams(height_m=1.25, pitch_deg=-6.0, roll_deg=-2.0),
+         RoomParams(light_azimuth_deg=30, light_elevation_deg=45), {"codec": "hevc"},
+         "held out (2026-12-04 pm): walking away with wide, toed-out steps, habitual lean 1 deg to the left, "
+         "camera rolled -2 deg, HEVC"),
+        ("truth_heldout3_offaxis_habitual", WalkParams(seed=63, start_distance_m=7.8, end_distance_m=2.4,
+                                                       lateral_offset_m=0.3, speed_m_s=0.8, cadence_steps_min=94,
+                                                       height_m=1.66, width_scale=1.25, lean_left_stance_deg=6,
+                                                       lean_right_stance_deg=1, lean_offset_deg=2.0,
+                                                       pelvic_drop_left_stance_deg=4,
+                                                       shirt_rgb=(0.45, 0.55, 0.35), trousers_rgb=(0.3, 0.28, 0.35)),
+         CameraParams(height_m=1.15, pitch_deg=-5.0, yaw_deg=3.0, x_m=-0.2),
+         RoomParams(light_azimuth_deg=35, light_elevation_deg=55, ambient=0.3), {},
+         "held out (2026-12-04 pm): heavier walker 0.3 m off axis, camera yawed 3 deg, habitual lean 2 deg "
+         "to the right, lean 6 deg over the left leg"),
+        ("truth_heldout3_short_markers_24fps", WalkParams(seed=64, start_distance_m=7.2, end_distance_m=2.1,
+                                                          speed_m_s=0.8, cadence_steps_min=104, height_m=1.56,
+                                                          width_scale=0.98, lean_right_stance_deg=4,
+                                                          lean_left_stance_deg=4, pelvic_drop_right_stance_deg=6,
+                                                          pelvic_drop_left_stance_deg=1,
+                                                          shirt_rgb=(0.8, 0.65, 0.3), trousers_rgb=(0.2, 0.3, 0.45),
+                                                          pelvis_marker_rgb=MARKER_GREEN),
+         CameraParams(height_m=1.2, pitch_deg=-5.0, roll_deg=1.0),
+         RoomParams(light_azimuth_deg=10, light_elevation_deg=60, light_intensity=3.6, ambient=0.45,
+                    wall_rgb=(0.92, 0.86, 0.74)), {"fps": 24},
+         "held out (2026-12-04 pm): short walker with pelvis markers, 24 fps, bright room with warm walls; "
+         "lean 4 deg over both legs, pelvic drop 6 deg over the right"),
     ]
     for name, walk, cam, room, video, desc in truth:
         clips.append(_entry(name, walk, cam, room, video, kind="truth", description=desc))
