@@ -336,6 +336,12 @@ def foot_centre_events(
     return out
 
 
+def _contact_floor_s(intervals: list, min_fraction: float) -> float | None:
+    """``min_fraction`` times the foot's median fully seen contact, or None with fewer than three."""
+    full = [iv[1] - iv[0] for iv in intervals if iv[4] and iv[5]]
+    return min_fraction * float(np.median(full)) if len(full) >= 3 else None
+
+
 def drop_short_contacts(intervals: list, *, min_fraction: float = 0.5) -> tuple[list, int]:
     """Remove contacts much shorter than the foot's typical stance (a swing foot pausing in the image).
 
@@ -353,10 +359,9 @@ def drop_short_contacts(intervals: list, *, min_fraction: float = 0.5) -> tuple[
         Layout of :func:`detect_contacts`.
     n_dropped : int
     """
-    full = [iv[1] - iv[0] for iv in intervals if iv[4] and iv[5]]
-    if len(full) < 3:
+    floor = _contact_floor_s(intervals, min_fraction)
+    if floor is None:
         return list(intervals), 0
-    floor = min_fraction * float(np.median(full))
     kept = [iv for iv in intervals if not (iv[4] and iv[5] and iv[1] - iv[0] < floor)]
     return kept, len(intervals) - len(kept)
 
@@ -375,11 +380,11 @@ def untime_cut_strikes(intervals: list, *, min_fraction: float = 0.2) -> tuple[l
     seen contact (at least three), its strike is marked unseen. The default,
     a fifth of the stance, lies just past the loading response (a tenth of
     the cycle is a sixth of a 60 % stance), when the foot is flat (common
-    practice, no source). The contact is
-    kept; the single-support phase that the strike would close is then
-    partial and left out. A contact cut by the *start* of the stretch is left
-    alone: its foot off is timed from the toe, which rests until it leaves
-    (on the same walk such a foot off 0.37 s into the clip was 11 ms off).
+    practice, no source). The contact is kept; the single-support phase that
+    the strike would close is then partial and left out. A contact cut by the
+    *start* of the stretch is left alone: its foot off is timed from the toe,
+    which rests until it leaves (on the same walk such a foot off 0.37 s into
+    the clip was 11 ms off).
     Measured: from exact keypoints on the 41 rendered clips the rule left
     4 strikes untimed (110, 226, 70 and 67 ms off before) and changed no
     other event; through the pose model it left 2 untimed (a clip's worst
@@ -401,10 +406,9 @@ def untime_cut_strikes(intervals: list, *, min_fraction: float = 0.2) -> tuple[l
     n_untimed : int
         How many strikes were marked unseen.
     """
-    full = [iv[1] - iv[0] for iv in intervals if iv[4] and iv[5]]
-    if len(full) < 3:
+    floor = _contact_floor_s(intervals, min_fraction)
+    if floor is None:
         return list(intervals), 0
-    floor = min_fraction * float(np.median(full))
     out, n = [], 0
     for t_s, t_o, i0, i1, s_seen, o_seen in intervals:
         if s_seen and not o_seen and t_o - t_s < floor:
