@@ -26,7 +26,18 @@ For each side and metric (per-phase lean, per-phase hip-force change):
    19:231-240; Haley & Fragala-Pinkham 2006, Phys Ther 86:735-743), which
    equals ``1.96 * SD_p * sqrt(1/n_a + 1/n_b)``.
 
-A change is flagged "beyond MDC" when ``|change| > MDC95``.
+A change is flagged "beyond MDC" when ``|change| > MDC95``, with two
+additions for what step-to-step variability cannot show:
+
+* lean: ``|change| > MDC95 + allowance``, where the allowance is the largest
+  error of a per-side change measured between two rendered sessions filmed
+  the same way (``stated_accuracy.LEAN_CHANGE_METHOD``): the pose model's
+  lean offset depends on light and build, is the same in every step of a
+  clip, and so never shows in the step-to-step SD;
+* hip-force change: beyond its own MDC95 *and* the lean change of the same
+  comparison flagged, since the estimate is computed from the lean.
+
+Pelvic drop (pelvis markers only) keeps the plain rule.
 """
 
 from __future__ import annotations
@@ -50,6 +61,7 @@ from lean_video import figures
 from lean_video.errors import LeanVideoError
 from lean_video.files import atomic_write_text
 from lean_video.report_pictures import annotate_peak_frame, lever_arm_svg
+from lean_video.stated_accuracy import LEAN_CHANGE_METHOD
 
 logger = logging.getLogger(__name__)
 
@@ -360,14 +372,41 @@ def _drop_validated(session: Mapping) -> bool:
     return _summary_drop_validated(session.get("summary") or {})
 
 
-def history_rows(sessions: Sequence[Mapping]) -> dict[str, list[dict[str, Any]]]:
+def history_rows(
+    sessions: Sequence[Mapping], *,
+    lean_allowance_deg: float = LEAN_CHANGE_METHOD["same_setup_error_max_deg"],
+) -> dict[str, list[dict[str, Any]]]:
     """Per side, one row per session with mean, 95 % CI, change and MDC95 for lean, hip-force change and
     pelvic drop (the last only from sessions whose pelvic drop was validated, i.e. filmed with pelvis markers).
 
-    ``sessions``: dicts with ``date`` and ``phases`` (per-phase DataFrame),
-    oldest first. Means/CIs are computed from the phases (Student t). See the
-    module docstring for the MDC95 definition.
+    Parameters
+    ----------
+    sessions : list of dict
+        Dicts with ``date`` and ``phases`` (per-phase DataFrame), oldest first.
+        Means/CIs are computed from the phases (Student t).
+    lean_allowance_deg : float, keyword-only
+        Systematic error a per-side lean change can carry between two
+        sessions filmed the same way; a lean change is flagged only beyond
+        MDC95 plus this (default: the largest such error measured on rendered
+        session pairs, ``stated_accuracy.LEAN_CHANGE_METHOD``). 0 gives the
+        plain MDC95 rule. See the module docstring.
+
+    Returns
+    -------
+    dict
+        ``{"left": rows, "right": rows}``; each row holds ``{m}_mean``,
+        ``{m}_sd``, ``{m}_lo``, ``{m}_hi``, ``{m}_n``, ``{m}_sd_pooled`` and,
+        for ``tag`` in ``prev``/``first``, ``{m}_change_{tag}``,
+        ``{m}_mdc_{tag}``, ``{m}_threshold_{tag}`` (what the change must
+        exceed) and ``{m}_beyond_{tag}`` (None where there is nothing to
+        compare), for ``m`` in ``lean``, ``force``, ``drop``.
     """
+    if not (isinstance(lean_allowance_deg, (int, float)) and math.isfinite(lean_allowance_deg)
+            and lean_allowance_deg >= 0):
+        raise LeanVideoError(f"lean_allowance_deg must be a finite number of degrees >= 0, got "
+                             f"{lean_allowance_deg!r}; leave it out to use the measured "
+                             f"{LEAN_CHANGE_METHOD['same_setup_error_max_deg']} deg.")
+    allowance = {"lean": float(lean_allowance_deg), "force": 0.0, "drop": 0.0}
     out: dict[str, list[dict[str, Any]]] = {}
     for side in SIDES:
         rows = []
@@ -393,7 +432,12 @@ def history_rows(sessions: Sequence[Mapping]) -> dict[str, list[dict[str, Any]]]
                     mdc = mdc95(sdp, ref[f"{key}_n"], r[f"{key}_n"]) if ok else math.nan
                     r[f"{key}_change_{tag}"] = change
                     r[f"{key}_mdc_{tag}"] = mdc
-                    r[f"{key}_beyond_{tag}"] = (abs(change) > mdc) if ok else None
+                    r[f"{key}_threshold_{tag}"] = mdc + allowance[key]
+                    beyond = (abs(change) > mdc + allowance[key]) if ok else None
+                    if key == "force" and beyond:
+                        # the force estimate follows the lean: no more certain than the lean change
+                        beyond = r.get(f"lean_beyond_{tag}") is True
+                    r[f"{key}_beyond_{tag}"] = beyond
         out[side] = rows
     return out
 
@@ -441,7 +485,8 @@ def render_history_report(
            "rows": rows, "plots": [(pid, _plot_div(fig, pid)) for pid, fig in plots], "provenance": prov,
            "shared_params": shared, "show_drop": show_drop,
            "n_earlier": sum(int(s.get("n_earlier_analyses") or 0) for s in sessions),
-           "n_sessions": len(sessions)}
+           "n_sessions": len(sessions), "lean_change": LEAN_CHANGE_METHOD,
+           "lean_allowance": LEAN_CHANGE_METHOD["same_setup_error_max_deg"]}
     return _env().get_template("history.html.j2").render(**ctx)
 
 

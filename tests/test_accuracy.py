@@ -65,6 +65,24 @@ HELDOUT2_60FPS = ("truth_heldout2_both_lean_60fps", "equal sides at 60 fps lit f
 HELDOUT3_SLOW = ("truth_heldout3_slow_flexed_dark", "slow walker with a 65 % stance (held out): foot offs 38 ms early "
                  "(median), 25 ms early from exact keypoints: the second slow walk where the toe's peak upward image "
                  "speed comes before the foot leaves the floor")
+# Later sessions of five clients above (truth_followup_*: same room, light, camera place and
+# clothes, another walk and lean), rendered on the evening of 2026-12-04 to measure a change
+# between sessions and measured once as rendered. Where they miss a target of their own:
+FOLLOWUP_SIDE_LIGHT = ("truth_followup_side_light", "later session of the side-light walker: the per-frame "
+                       "lean bias is +1.36 deg again (as in its first session), so the left lean reads "
+                       "1.22 deg under and the right 1.38 over; the change between the sessions is "
+                       "within 0.83 deg (test_lean_change_between_sessions_filmed_the_same_way)")
+FOLLOWUP_SIDE_LIGHT_BIAS = (FOLLOWUP_SIDE_LIGHT[0], "per-frame lean bias +1.36 deg in light from the side, "
+                            "the same as in this client's first session")
+FOLLOWUP_AWAY = ("truth_followup_away_lean_left", "later session of the walker filmed from behind: per-frame "
+                 "bias -0.87 deg (-0.85 in the first session), left lean 1.09 deg high")
+FOLLOWUP_AWAY_BIAS = (FOLLOWUP_AWAY[0], "per-frame lean bias -0.87 deg (-0.85 in this client's first session)")
+FOLLOWUP_MARKERS_BIAS = ("truth_followup_markers_contralateral", "per-frame lean bias +0.833 deg in light from "
+                         "60 deg (+0.80 in this client's first session), just over the 0.83 bound")
+FOLLOWUP_OFFAXIS = ("truth_followup_offaxis", "later session of the walker 0.3 m off the axis of a yawed "
+                    "camera: 6 of 8 phases; 6-7 m away the pose model's feet, about 10 px long, drift by 2-10 "
+                    "px while standing, so two foot offs are found 169 and 305 ms early and their phases "
+                    "are left out as not seen in contact throughout (from exact keypoints every phase is found)")
 MARKED = [c["name"] for c in demo_manifest()["clips"] if c["walk"].get("pelvis_marker_rgb") is not None]
 LONG_DS = ("truth_slow_long_double_support", "slow walk with a 17 % double support: foot offs found 49 ms early "
            "(median), as early from exact keypoints (test_gait_truth_clips): the foot-off method, not the pose model")
@@ -95,7 +113,8 @@ def row(name: str) -> dict:
     return _ROWS[name]
 
 
-@pytest.mark.parametrize("name", clips(SIDE_LIGHT, OTHER_LIGHT, AWAY_BIAS, MARKER_SIDE_LIGHT, HELDOUT2_AWAY))
+@pytest.mark.parametrize("name", clips(SIDE_LIGHT, OTHER_LIGHT, AWAY_BIAS, MARKER_SIDE_LIGHT, HELDOUT2_AWAY,
+                                       FOLLOWUP_SIDE_LIGHT, FOLLOWUP_AWAY))
 def test_direction_roll_and_lean(name):
     r = row(name)
     assert r["direction"] == r["direction_true"]
@@ -120,7 +139,7 @@ def test_direction_roll_and_lean(name):
         assert r["phase_lean_err_max"] <= 2.0
 
 
-@pytest.mark.parametrize("name", clips(AWAY_HEAVY))
+@pytest.mark.parametrize("name", clips(AWAY_HEAVY, FOLLOWUP_OFFAXIS))
 def test_phases_found(name):
     r = row(name)
     # Issue target, met: every steady single-support phase found, none
@@ -137,7 +156,8 @@ def test_phases_found(name):
     assert r["phases_spurious"] == 0
 
 
-@pytest.mark.parametrize("name", clips(SIDE_LIGHT, AWAY_BIAS))
+@pytest.mark.parametrize("name", clips(SIDE_LIGHT, AWAY_BIAS, FOLLOWUP_SIDE_LIGHT_BIAS, FOLLOWUP_AWAY_BIAS,
+                                       FOLLOWUP_MARKERS_BIAS))
 def test_per_frame_lean_bias(name):
     # Mean per-frame trunk lean minus truth over the whole clip (the truth's
     # image-plane lean, so camera roll and walking direction are included).
@@ -216,6 +236,51 @@ def test_stated_accuracy_covers_what_is_measured():
         assert max(si) <= EVENTS_METHOD["single_support_symmetry_index_error_pct"][direction] + 0.5, direction
 
 
+# Each later session and the clip it follows: same room, light, camera place and clothes.
+FOLLOWUP_PAIRS = [("truth_strong_lean_24fps", "truth_followup_side_light"),
+                  ("truth_strong_lean_other_light", "truth_followup_other_light"),
+                  ("truth_markers_contralateral", "truth_followup_markers_contralateral"),
+                  ("truth_away_strong_lean_left", "truth_followup_away_lean_left"),
+                  ("truth_heldout3_offaxis_habitual", "truth_followup_offaxis")]
+
+
+def test_lean_change_between_sessions_filmed_the_same_way():
+    # What the history report's filming allowance rests on (stated_accuracy.LEAN_CHANGE_METHOD).
+    # The pose model's per-frame lean bias is a property of the filming set-up: measured
+    # +1.36/+1.36, -0.66/-0.52, +0.80/+0.83, -0.85/-0.87, -0.18/-0.13 deg on the five pairs.
+    # So a per-side change in lean between two sessions filmed the same way is read within
+    # 0.15 deg in the median and 1.08 at most (the 12 deg lean of the first sessions read low,
+    # so its fall to 6 and 8 deg read 0.83 and 1.08 deg smaller than it was), while the same
+    # clips' per-side errors reach 1.38 deg.
+    from lean_video.stated_accuracy import LEAN_CHANGE_METHOD
+
+    assert {n for pair in FOLLOWUP_PAIRS for n in pair} <= set(CLIPS)
+    assert {n for n in CLIPS if n.startswith("truth_followup_")} == {later for _, later in FOLLOWUP_PAIRS}
+    errs = []
+    for first, later in FOLLOWUP_PAIRS:
+        a, b = row(first), row(later)
+        assert abs(b["lean_frame_bias_deg"] - a["lean_frame_bias_deg"]) <= 0.2, later  # measured <= 0.14
+        for side in ("left", "right"):
+            errs.append(abs(b[f"{side}_lean_err"] - a[f"{side}_lean_err"]))
+    assert max(errs) <= LEAN_CHANGE_METHOD["same_setup_error_max_deg"] + 0.005
+    assert abs(np.median(errs) - LEAN_CHANGE_METHOD["same_setup_error_median_deg"]) <= 0.05
+
+
+def test_stated_lean_change_between_set_ups_covers_what_is_measured():
+    # Two sessions filmed in different set-ups: the change carries the difference of the two
+    # clips' per-side errors. Over every pair of the 41 clips that are not later sessions,
+    # measured 1.40 deg at the 95th percentile and 2.39 at most (median 0.43).
+    from lean_video.stated_accuracy import LEAN_CHANGE_METHOD
+
+    names = [n for n in CLIPS if not n.startswith("truth_followup_")]
+    diffs = [abs(row(b)[f"{s}_lean_err"] - row(a)[f"{s}_lean_err"])
+             for i, a in enumerate(names) for b in names[i + 1:] for s in ("left", "right")]
+    assert max(diffs) <= LEAN_CHANGE_METHOD["other_setup_error_max_deg"] + 0.005
+    assert abs(np.quantile(diffs, 0.95) - LEAN_CHANGE_METHOD["other_setup_error_p95_deg"]) <= 0.05
+    # the reason to film every visit the same way: a set-up change costs more than the allowance
+    assert np.quantile(diffs, 0.95) > LEAN_CHANGE_METHOD["same_setup_error_max_deg"]
+
+
 @pytest.mark.parametrize("name", clips(AWAY_HEAVY, HELDOUT2_60FPS))
 def test_single_support_time_per_side(name):
     r = row(name)
@@ -239,8 +304,9 @@ def test_single_support_time_per_side(name):
 
 
 @pytest.mark.xfail(strict=True, reason="target not met on the strong-lean walker lit from either side: 1.28 and "
-                                       "1.32 deg, 1.05 and 1.09 on two walkers filmed from behind, 1.07 on a marker "
-                                       "client lit from 60 deg (0.94 on the other 36 clips)")
+                                       "1.32 deg (1.38 in its later session), 1.05 and 1.09 on two walkers filmed "
+                                       "from behind (1.09 in a later session of the first), 1.07 on a marker "
+                                       "client lit from 60 deg (0.94 on the other 39 clips)")
 def test_target_per_side_lean_within_one_degree():
     # Met on the first 15 clips since both feet share one footprint tolerance walking toward.
     errs = per_side_lean_errors()

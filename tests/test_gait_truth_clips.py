@@ -107,7 +107,15 @@ def test_event_timing(clip, request):
 # Measured when the heavier walker filmed from behind was rendered (held out): 10 of 12 phases,
 # one strike 419 ms early (the heel came down the image to land, gait_frontal._heel_arrival);
 # now all of them. Clips listed here are strict xfails.
-KNOWN_PHASE_MISSES: dict[str, str] = {}
+# Measured when the later sessions (truth_followup_*) were rendered on the evening of
+# 2026-12-04, as rendered: one clip misses a phase at each end.
+KNOWN_PHASE_MISSES: dict[str, str] = {
+    "truth_followup_markers_contralateral": (
+        "8 of 10: the first phase starts 0.15 s into the clip, after too little of the stance foot's "
+        "contact is seen to take it for a stance, and the last ends with a strike 0.15 s before the "
+        "clip ends, left untimed (gait_frontal.untime_cut_strikes); both lie within 0.4 s of the clip "
+        "ends, where the pose-model test (test_accuracy) does not count phases, and it finds 8 of 8"),
+}
 
 
 def test_phases_and_angles(clip, request):

@@ -28,6 +28,7 @@ from lean_video.report import (
     write_report_atomic,
 )
 from lean_video.report_pictures import annotate_peak_frame, blur_face, body_crop, head_box, lever_arm_svg
+from lean_video.stated_accuracy import LEAN_CHANGE_METHOD
 
 ARTIFACTS = Path(__file__).parent / "artifacts"
 HOSTILE_NAME = "<script>alert(1)</script>"
@@ -268,6 +269,48 @@ def test_history_rows_mdc_hand_computed():
     assert rows[0]["lean_beyond_prev"] is None and math.isnan(rows[0]["lean_change_prev"])
     assert rows[1]["force_change_first"] == pytest.approx(-5.0)
 
+
+
+def test_history_rows_lean_change_needs_mdc_plus_filming_allowance():
+    # Left lean per phase [4, 5, 6] then [6, 7, 8]: SD 1 in both, pooled SD 1, MDC95 =
+    # 1.96 * sqrt(1/3 + 1/3) = 1.6003 (same hand computation as above). The change of 2.0 deg
+    # is beyond MDC95 but not beyond MDC95 + the 1.08 deg a change carried between rendered
+    # sessions filmed the same way (stated_accuracy.LEAN_CHANGE_METHOD, measured 2026-12-04).
+    def ph(vals):
+        return pd.DataFrame({"stance_side": ["left"] * len(vals), "lean_mean_deg": vals,
+                             "hip_force_change_pct": [-3.0 * v for v in vals]})
+    sessions = [{"date": "2026-01-01", "phases": ph([4.0, 5.0, 6.0])},
+                {"date": "2026-02-01", "phases": ph([6.0, 7.0, 8.0])}]
+    rows = history_rows(sessions)["left"]
+    mdc = 1.96 * math.sqrt(2 / 3)
+    assert rows[1]["lean_mdc_prev"] == pytest.approx(mdc, abs=1e-9)
+    assert rows[1]["lean_threshold_prev"] == pytest.approx(mdc + LEAN_CHANGE_METHOD["same_setup_error_max_deg"])
+    assert rows[1]["lean_beyond_prev"] is False
+    # force: -6 %, beyond its own MDC95 (3 * 1.6 = 4.8) but computed from a lean change that is not
+    assert abs(rows[1]["force_change_prev"]) > rows[1]["force_mdc_prev"]
+    assert rows[1]["force_beyond_prev"] is False
+    # without the allowance, the plain MDC95 rule of Weir 2005 flags both
+    plain = history_rows(sessions, lean_allowance_deg=0.0)["left"]
+    assert plain[1]["lean_beyond_prev"] is True and plain[1]["force_beyond_prev"] is True
+    # a larger change clears MDC95 + allowance: 2.7 > 1.60 + 1.08
+    sessions[1]["phases"] = ph([6.7, 7.7, 8.7])
+    rows = history_rows(sessions)["left"]
+    assert rows[1]["lean_beyond_prev"] is True and rows[1]["force_beyond_prev"] is True
+    for bad in (-0.5, float("nan"), "1"):
+        with pytest.raises(LeanVideoError, match="lean_allowance_deg must be a finite number of degrees >= 0"):
+            history_rows(sessions, lean_allowance_deg=bad)
+
+
+def test_history_report_states_the_filming_allowance():
+    html = render_history_report({"id": "HP-014"}, make_sessions())
+    para = re.search(r'<p id="filming-allowance">(.*?)</p>', html, re.S)
+    assert para is not None
+    text = " ".join(re.sub(r"<[^>]+>", "", para.group(1)).split())
+    m = LEAN_CHANGE_METHOD
+    for number in (f"{m['same_setup_error_max_deg']:.2f}°", f"{m['other_setup_error_max_deg']:.1f}°",
+                   "film every visit in the same place, light and camera position"):
+        assert number in text
+    assert parse(html).tables["history-left"][1][4] == "MDC95 + filming"
 
 # --------------------------------------------------------------------------- session report
 def test_session_report_has_no_external_reference(session_html):

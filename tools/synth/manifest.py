@@ -7,6 +7,8 @@ same ffmpeg/x264 build is used).
 """
 from __future__ import annotations
 
+from dataclasses import replace
+
 from .gait import WalkParams
 from .scene import CameraParams, RoomParams
 
@@ -345,6 +347,34 @@ def default_manifest() -> dict:
          "held out (2026-12-04 pm): short walker with pelvis markers, 24 fps, bright room with warm walls; "
          "lean 4 deg over both legs, pelvic drop 6 deg over the right"),
     ]
+    # Later sessions of five of the clients above, filmed in the same room, light and
+    # camera place, in the same clothes, with a different walk (another seed, speed
+    # and lean): whether the pose model's scene-dependent lean offset cancels in the
+    # change between two sessions filmed the same way (2026-12-04 evening; measured
+    # once as rendered).
+    by_name = {t[0]: t for t in truth}
+    follow_ups = [
+        ("truth_followup_side_light", "truth_strong_lean_24fps",
+         dict(seed=71, speed_m_s=0.8, cadence_steps_min=96, lean_right_stance_deg=6, lean_left_stance_deg=2,
+              pelvic_drop_right_stance_deg=3), "lean over the right leg down from 12 to 6 deg"),
+        ("truth_followup_other_light", "truth_strong_lean_other_light",
+         dict(seed=72, speed_m_s=0.75, cadence_steps_min=94, lean_right_stance_deg=8, lean_left_stance_deg=5,
+              pelvic_drop_right_stance_deg=3, pelvic_drop_left_stance_deg=2),
+         "lean over the right leg down from 12 to 8 deg, over the left up from 3 to 5 deg"),
+        ("truth_followup_markers_contralateral", "truth_markers_contralateral",
+         dict(seed=73, speed_m_s=0.8, cadence_steps_min=98, lean_left_stance_deg=3, pelvic_drop_right_stance_deg=4),
+         "lean over the left leg down from 6 to 3 deg, pelvic drop over the right from 7 to 4 deg"),
+        ("truth_followup_away_lean_left", "truth_away_strong_lean_left",
+         dict(seed=74, speed_m_s=0.9, cadence_steps_min=100, lean_left_stance_deg=5, lean_right_stance_deg=2,
+              pelvic_drop_left_stance_deg=2), "walking away, lean over the left leg down from 9 to 5 deg"),
+        ("truth_followup_offaxis", "truth_heldout3_offaxis_habitual",
+         dict(seed=75, speed_m_s=0.85, cadence_steps_min=96, lean_left_stance_deg=3, pelvic_drop_left_stance_deg=2),
+         "lean over the left leg down from 6 to 3 deg, habitual 2 deg lean kept"),
+    ]
+    for name, base, change, what in follow_ups:
+        _, walk, cam, room, video, _ = by_name[base]
+        truth.append((name, replace(walk, **change), cam, room, video,
+                      f"later session of {base}: same room, light, camera and clothes; {what}"))
     for name, walk, cam, room, video, desc in truth:
         clips.append(_entry(name, walk, cam, room, video, kind="truth", description=desc))
     return {"schema_version": 1, "generator": "python -m tools.synth.render_all", "clips": clips}
