@@ -231,6 +231,7 @@ def detect_contacts(
     speeds: dict[str, np.ndarray], time_s: np.ndarray, *, on_fraction: float = 0.2,
     off_fraction: float = 0.3, window_s: float = 1.2, min_contact_s: float = 0.15,
     min_swing_s: float = 0.15, min_point_contact_s: float = 0.1, min_flat_s: float = 0.1,
+    min_peak_fraction: float = 0.25,
 ) -> tuple[np.ndarray, list[tuple[float, float, int, int, bool, bool]]]:
     """Foot contact intervals from normalised foot speeds, with hysteresis.
 
@@ -249,6 +250,16 @@ def detect_contacts(
     ``min_swing_s`` are merged away (common practice, no source). Foot strike
     is the earliest point's interpolated crossing, foot off the latest.
 
+    The local swing speed is kept at least ``min_peak_fraction`` of the
+    clip's typical one (the upper quartile of the running maximum): with no
+    swing within ``window_s`` (a client standing still before setting off)
+    the thresholds would otherwise fall to the noise of a still foot, and a
+    foot at rest would be read as moving. On a rendered walker standing
+    1.5 s before walking, the pose model's feet moved at up to 0.06 of the
+    typical swing speed (95th percentile) while standing, and the local
+    swing speed of a far foot walking away fell to 0.22-0.36 of it; 0.25
+    lies between (engineering choice, no source).
+
     Returns
     -------
     contact : ndarray of bool, shape (n,)
@@ -263,6 +274,13 @@ def detect_contacts(
     tracked = np.all(np.isfinite(stack), axis=0)
     peak = np.stack([ndimage.maximum_filter1d(np.where(tracked, s, 0.0), size=win, mode="nearest")
                      for s in stack])
+    if min_peak_fraction > 0 and tracked.any():
+        # While the client stands still no swing sets the local scale, and the
+        # thresholds would sink to the footprint's own noise (a still foot read
+        # as moving); so the scale is kept at least a fraction of the clip's
+        # typical swing speed (its upper quartile of the running maximum).
+        typical = np.percentile(peak[:, tracked], 75, axis=1)
+        peak = np.maximum(peak, min_peak_fraction * typical[:, None])
     thr_on, thr_off = on_fraction * peak, off_fraction * peak
     contact = np.zeros(n, bool)
     intervals = []

@@ -22,7 +22,8 @@ import pandas as pd
 from lean_video import __version__
 from lean_video.errors import LeanVideoError
 from lean_video.files import atomic_write_text
-from lean_video.stated_accuracy import EVENTS_METHOD, LEAN_METHOD, PELVIS_MARKER_METHOD, PELVIS_METHOD
+from lean_video.stated_accuracy import (EVENTS_METHOD, LEAN_METHOD, PELVIS_MARKER_METHOD, PELVIS_METHOD,
+                                        STANDING_METHOD)
 
 log = logging.getLogger(__name__)
 
@@ -187,6 +188,7 @@ def analyse(
     summary["sides"] = {side: {**summary["sides"].get(side, {}), **_mech_side(per_side.get(side, {}))}
                         for side in ("left", "right")}
     summary["standing"] = posture.standing_posture(result.frames, measured)
+    summary["standing_method"] = STANDING_METHOD
     summary["pelvic_obliquity_method"] = (PELVIS_MARKER_METHOD if summary.get("pelvic_obliquity_source")
                                           == "pelvis markers" else PELVIS_METHOD)
     summary["trunk_lean_method"] = LEAN_METHOD

@@ -28,11 +28,17 @@ from lean_video.errors import LeanVideoError
 STILL_SPEED_PER_S = 0.05
 #: Shortest still stretch reported (the issue's "a second or more").
 MIN_STILL_S = 1.0
+#: Time span of the central difference that gives the hip's speed (engineering choice, no source).
+SPEED_SPAN_S = 0.3
+#: Latest start of the still stretch that "opens" the clip (engineering choice, no source).
+MAX_START_S = 0.5
 
 
 def standing_posture(frames: pd.DataFrame, keypoints: pd.DataFrame, *,
                      min_still_s: float = MIN_STILL_S, still_speed_per_s: float = STILL_SPEED_PER_S) -> dict | None:
     """Mean lean and obliquity over the still stretch that opens the clip, or None.
+
+    The stretch must begin within :data:`MAX_START_S` of the first frame.
 
     Parameters
     ----------
@@ -59,19 +65,29 @@ def standing_posture(frames: pd.DataFrame, keypoints: pd.DataFrame, *,
     body = (y[["left_heel", "right_heel"]].mean(axis=1) - y[["left_shoulder", "right_shoulder"]].mean(axis=1)).to_numpy()
     if len(t) < 3:
         return None
-    dt = np.gradient(t)
-    speed = np.linalg.norm(np.gradient(hip, axis=0), axis=1) / np.where(dt > 0, dt, np.nan)
+    # Central difference over SPEED_SPAN_S rather than frame to frame: the pose
+    # model's hip points jitter by about a pixel from frame to frame, which alone
+    # reads as 0.05 body heights per second on a client 7 m away.
+    lo = np.searchsorted(t, t - SPEED_SPAN_S / 2, side="left")
+    hi = np.clip(np.searchsorted(t, t + SPEED_SPAN_S / 2, side="right") - 1, 0, len(t) - 1)
+    span = t[hi] - t[lo]
+    speed = np.linalg.norm(hip[hi] - hip[lo], axis=1) / np.where(span > 0, span, np.nan)
     rel = speed / (body / 0.818)  # shoulder-to-heel is 0.818 of stature (Winter 2009, Fig 4.1)
     still = ((rel < still_speed_per_s) & frames["left_contact"].to_numpy(dtype=bool)
              & frames["right_contact"].to_numpy(dtype=bool) & frames["valid"].to_numpy(dtype=bool))
-    if not still[0]:
+    if not still.any():
         return None
-    end = int(np.argmin(still)) if not still.all() else len(still)
-    if t[end - 1] - t[0] < min_still_s:
+    first = int(np.argmax(still))
+    # The first frames may miss: a contact seen from the first frame has no
+    # strike to start it, and the image speed there is a one-sided difference.
+    if t[first] - t[0] > MAX_START_S:
         return None
-    part = frames.iloc[:end]
+    end = first + (int(np.argmin(still[first:])) if not still[first:].all() else len(still) - first)
+    if t[end - 1] - t[first] < min_still_s:
+        return None
+    part = frames.iloc[first:end]
     return {
-        "start_s": float(t[0]), "end_s": float(t[end - 1]), "duration_s": float(t[end - 1] - t[0]),
+        "start_s": float(t[first]), "end_s": float(t[end - 1]), "duration_s": float(t[end - 1] - t[first]),
         "lean_deg": float(part["trunk_lean_deg"].mean()), "lean_sd_deg": float(part["trunk_lean_deg"].std()),
         "pelvic_obliquity_deg": float(part["pelvic_obliquity_deg"].mean()),
         "pelvic_obliquity_sd_deg": float(part["pelvic_obliquity_deg"].std()),

@@ -83,7 +83,25 @@ FOLLOWUP_OFFAXIS = ("truth_followup_offaxis", "later session of the walker 0.3 m
                     "camera: 6 of 8 phases; 6-7 m away the pose model's feet, about 10 px long, drift by 2-10 "
                     "px while standing, so two foot offs are found 169 and 305 ms early and their phases "
                     "are left out as not seen in contact throughout (from exact keypoints every phase is found)")
+# Six walkers who first stand still for 1.5 s (truth_stand_*: the set-ups of the five
+# above and of truth_no_lean, another walk and a habitual lean), rendered the same evening
+# to check the standing posture on video and measured once as rendered. In the set-ups lit
+# from the side they miss what those set-ups miss:
+STAND_SIDE_LIGHT = ("truth_stand_side_light", "light from the side (per-frame bias +1.18 deg): left lean "
+                    "1.02 deg under")
+STAND_OTHER_LIGHT = ("truth_stand_other_light", "light from the other side: left lean 1.12 deg high")
+STAND_MARKERS = ("truth_stand_markers_contralateral", "light from 60 deg (per-frame bias +0.88 deg): left lean "
+                 "1.20 deg under")
+STAND_SIDE_LIGHT_BIAS = (STAND_SIDE_LIGHT[0], "per-frame lean bias +1.18 deg in light from the side")
+STAND_MARKERS_BIAS = (STAND_MARKERS[0], "per-frame lean bias +0.88 deg in light from 60 deg")
+STAND_OTHER_LIGHT_PHASES = (STAND_OTHER_LIGHT[0], "5 of 7 phases: two foot offs found early (median 59 ms) and "
+                            "their phases left out; from exact keypoints 7 of 7")
+STAND_OFF = {STAND_SIDE_LIGHT[0]: "foot offs 35 ms early (median; 25 ms from exact keypoints)",
+             STAND_OTHER_LIGHT[0]: "foot offs 59 ms early (median; 22 ms from exact keypoints)",
+             STAND_MARKERS[0]: "foot offs 55 ms early (median; 11 ms from exact keypoints)"}
+STAND_MARKERS_SI = (STAND_MARKERS[0], "left/right single-support symmetry index off by 22.8 %")
 MARKED = [c["name"] for c in demo_manifest()["clips"] if c["walk"].get("pelvis_marker_rgb") is not None]
+STANDING = [c["name"] for c in demo_manifest()["clips"] if c["walk"].get("stand_s")]
 LONG_DS = ("truth_slow_long_double_support", "slow walk with a 17 % double support: foot offs found 49 ms early "
            "(median), as early from exact keypoints (test_gait_truth_clips): the foot-off method, not the pose model")
 
@@ -114,7 +132,8 @@ def row(name: str) -> dict:
 
 
 @pytest.mark.parametrize("name", clips(SIDE_LIGHT, OTHER_LIGHT, AWAY_BIAS, MARKER_SIDE_LIGHT, HELDOUT2_AWAY,
-                                       FOLLOWUP_SIDE_LIGHT, FOLLOWUP_AWAY))
+                                       FOLLOWUP_SIDE_LIGHT, FOLLOWUP_AWAY, STAND_SIDE_LIGHT, STAND_OTHER_LIGHT,
+                                       STAND_MARKERS))
 def test_direction_roll_and_lean(name):
     r = row(name)
     assert r["direction"] == r["direction_true"]
@@ -139,7 +158,7 @@ def test_direction_roll_and_lean(name):
         assert r["phase_lean_err_max"] <= 2.0
 
 
-@pytest.mark.parametrize("name", clips(AWAY_HEAVY, FOLLOWUP_OFFAXIS))
+@pytest.mark.parametrize("name", clips(AWAY_HEAVY, FOLLOWUP_OFFAXIS, STAND_OTHER_LIGHT_PHASES))
 def test_phases_found(name):
     r = row(name)
     # Issue target, met: every steady single-support phase found, none
@@ -157,7 +176,7 @@ def test_phases_found(name):
 
 
 @pytest.mark.parametrize("name", clips(SIDE_LIGHT, AWAY_BIAS, FOLLOWUP_SIDE_LIGHT_BIAS, FOLLOWUP_AWAY_BIAS,
-                                       FOLLOWUP_MARKERS_BIAS))
+                                       FOLLOWUP_MARKERS_BIAS, STAND_SIDE_LIGHT_BIAS, STAND_MARKERS_BIAS))
 def test_per_frame_lean_bias(name):
     # Mean per-frame trunk lean minus truth over the whole clip (the truth's
     # image-plane lean, so camera roll and walking direction are included).
@@ -207,7 +226,7 @@ def test_event_timing_away(name):
 
 # (Until 2026-12-04 the xfail-marked clips were filtered out here by mistake, so these two
 # strict xfails never ran.)
-@pytest.mark.parametrize("name", clips(LONG_DS, HELDOUT3_SLOW, names=TOWARD))
+@pytest.mark.parametrize("name", clips(LONG_DS, HELDOUT3_SLOW, *STAND_OFF.items(), names=TOWARD))
 def test_foot_off_timing_toward(name):
     r = row(name)
     # Foot off, walking toward: measured median 6-31 ms on 30 clips (target 33 ms
@@ -236,30 +255,39 @@ def test_stated_accuracy_covers_what_is_measured():
         assert max(si) <= EVENTS_METHOD["single_support_symmetry_index_error_pct"][direction] + 0.5, direction
 
 
-# Each later session and the clip it follows: same room, light, camera place and clothes.
+# Each later session or standing start and the clip of the same set-up: same room, light,
+# camera place and clothes, another walk and lean.
 FOLLOWUP_PAIRS = [("truth_strong_lean_24fps", "truth_followup_side_light"),
                   ("truth_strong_lean_other_light", "truth_followup_other_light"),
                   ("truth_markers_contralateral", "truth_followup_markers_contralateral"),
                   ("truth_away_strong_lean_left", "truth_followup_away_lean_left"),
-                  ("truth_heldout3_offaxis_habitual", "truth_followup_offaxis")]
+                  ("truth_heldout3_offaxis_habitual", "truth_followup_offaxis"),
+                  ("truth_strong_lean_24fps", "truth_stand_side_light"),
+                  ("truth_strong_lean_other_light", "truth_stand_other_light"),
+                  ("truth_markers_contralateral", "truth_stand_markers_contralateral"),
+                  ("truth_away_strong_lean_left", "truth_stand_away_lean_left"),
+                  ("truth_heldout3_offaxis_habitual", "truth_stand_offaxis"),
+                  ("truth_no_lean", "truth_stand_even_light")]
 
 
 def test_lean_change_between_sessions_filmed_the_same_way():
     # What the history report's filming allowance rests on (stated_accuracy.LEAN_CHANGE_METHOD).
     # The pose model's per-frame lean bias is a property of the filming set-up: measured
-    # +1.36/+1.36, -0.66/-0.52, +0.80/+0.83, -0.85/-0.87, -0.18/-0.13 deg on the five pairs.
-    # So a per-side change in lean between two sessions filmed the same way is read within
-    # 0.15 deg in the median and 1.08 at most (the 12 deg lean of the first sessions read low,
-    # so its fall to 6 and 8 deg read 0.83 and 1.08 deg smaller than it was), while the same
-    # clips' per-side errors reach 1.38 deg.
+    # +1.36/+1.36, -0.66/-0.52, +0.80/+0.83, -0.85/-0.87, -0.18/-0.13 deg on the five later
+    # sessions, +1.36/+1.18, -0.66/-0.51, +0.80/+0.88, -0.85/-0.68, -0.18/-0.30, -0.08/-0.06 on
+    # the six standing starts. So a per-side change in lean between two walks filmed the same
+    # way is read within 0.22 deg in the median and 1.08 at most (the 12 deg lean of the first
+    # sessions read low, so its fall to 6 and 8 deg read 0.83 and 1.08 deg smaller than it
+    # was), while the same clips' per-side errors reach 1.38 deg (median 0.79).
     from lean_video.stated_accuracy import LEAN_CHANGE_METHOD
 
     assert {n for pair in FOLLOWUP_PAIRS for n in pair} <= set(CLIPS)
-    assert {n for n in CLIPS if n.startswith("truth_followup_")} == {later for _, later in FOLLOWUP_PAIRS}
+    assert {n for n in CLIPS if n.startswith(("truth_followup_", "truth_stand_"))} == \
+        {later for _, later in FOLLOWUP_PAIRS}
     errs = []
     for first, later in FOLLOWUP_PAIRS:
         a, b = row(first), row(later)
-        assert abs(b["lean_frame_bias_deg"] - a["lean_frame_bias_deg"]) <= 0.2, later  # measured <= 0.14
+        assert abs(b["lean_frame_bias_deg"] - a["lean_frame_bias_deg"]) <= 0.25, later  # measured <= 0.18
         for side in ("left", "right"):
             errs.append(abs(b[f"{side}_lean_err"] - a[f"{side}_lean_err"]))
     assert max(errs) <= LEAN_CHANGE_METHOD["same_setup_error_max_deg"] + 0.005
@@ -268,11 +296,13 @@ def test_lean_change_between_sessions_filmed_the_same_way():
 
 def test_stated_lean_change_between_set_ups_covers_what_is_measured():
     # Two sessions filmed in different set-ups: the change carries the difference of the two
-    # clips' per-side errors. Over every pair of the 41 clips that are not later sessions,
+    # clips' per-side errors. Over every pair of the 41 clips that are neither later sessions
+    # nor standing starts (which share their set-ups with earlier clips),
     # measured 1.40 deg at the 95th percentile and 2.39 at most (median 0.43).
     from lean_video.stated_accuracy import LEAN_CHANGE_METHOD
 
-    names = [n for n in CLIPS if not n.startswith("truth_followup_")]
+    names = [n for n in CLIPS if not n.startswith(("truth_followup_", "truth_stand_"))]
+    assert len(names) == 41
     diffs = [abs(row(b)[f"{s}_lean_err"] - row(a)[f"{s}_lean_err"])
              for i, a in enumerate(names) for b in names[i + 1:] for s in ("left", "right")]
     assert max(diffs) <= LEAN_CHANGE_METHOD["other_setup_error_max_deg"] + 0.005
@@ -281,7 +311,41 @@ def test_stated_lean_change_between_set_ups_covers_what_is_measured():
     assert np.quantile(diffs, 0.95) > LEAN_CHANGE_METHOD["same_setup_error_max_deg"]
 
 
-@pytest.mark.parametrize("name", clips(AWAY_HEAVY, HELDOUT2_60FPS))
+def test_standing_posture_found_and_measured():
+    # Standing posture (lean_video.posture) on video: before these clips it was checked on
+    # hand-made tables only, and on the first rendered standing starts it was never found (a
+    # still foot read as moving once no swing nearby set the contact thresholds; the hip's
+    # frame-to-frame jitter read as 0.05 body heights per second). Measured 2026-12-04: found
+    # on all six, 1.17-1.50 s of the 1.5 s, standing lean -0.82 to +1.12 deg off (the same
+    # light-dependent offset as walking: +1.12 with the light from the side); never reported
+    # on the 46 clips that open with walking.
+    from lean_video.stated_accuracy import STANDING_METHOD
+
+    assert len(STANDING) == 6
+    errs = []
+    for name in CLIPS:
+        r = row(name)
+        assert r["standing_found"] == (name in STANDING), name
+        if name in STANDING:
+            assert 1.0 <= r["standing_s"] <= 1.5 + 1e-6, name
+            errs.append(abs(r["standing_lean_err"]))
+    assert max(errs) <= STANDING_METHOD["lean_error_max_deg"] + 0.005
+
+
+def test_stated_lean_relative_to_standing_covers_what_is_measured():
+    # Whether the walking lean relative to the client's own standing lean cancels the pose
+    # model's offset (measured 2026-12-04; not offered as a measure): per side it did in three
+    # set-ups (side light -1.02/+0.95 -> +0.10/-0.18 deg; light from 60 deg -1.20/+0.99 ->
+    # -0.33/+0.12; from behind +0.75/-0.58 -> -0.02/+0.19) and not in three (light from the
+    # other side +1.12/-0.95 -> +1.08/-0.91; off axis +0.08/+0.05 -> -0.67/+0.81; even light
+    # +0.16/-0.31 -> +0.60/-0.75): standing and walking offsets differ by up to 0.9 deg.
+    from lean_video.stated_accuracy import STANDING_METHOD
+
+    rel = [abs(row(n)[f"{s}_rel_standing_err"]) for n in STANDING for s in ("left", "right")]
+    assert abs(max(rel) - STANDING_METHOD["relative_lean_error_max_deg"]) <= 0.05
+
+
+@pytest.mark.parametrize("name", clips(AWAY_HEAVY, HELDOUT2_60FPS, STAND_MARKERS_SI))
 def test_single_support_time_per_side(name):
     r = row(name)
     # Mean single-support time per side minus truth. Measured: -0.04..+0.10 s

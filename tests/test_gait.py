@@ -959,3 +959,31 @@ def test_rest_points_use_speed_so_dropped_frames_do_not_look_like_motion():
     for _, name, seen, p, speed, still in rest:
         assert len(seen) == len(t)
         assert speed == pytest.approx(np.full(len(t) - 1, 6.0), rel=1e-9)
+
+
+def test_foot_standing_still_before_walking_is_in_contact():
+    # A foot standing still for 1.5 s, then walking: stance 0.6 s and swing 0.4 s, swing
+    # speed peaking at 1.0 (normalised), at rest noise up to 0.06 of it (the pose model's
+    # feet standing, measured on a rendered standing start). With no swing within the
+    # 1.2 s window the local swing speed is only the noise, and the thresholds (a fifth
+    # and three tenths of it) would read the still foot as moving; the scale kept at a
+    # quarter of the clip's typical swing speed leaves it in contact throughout.
+    from lean_video.gait_events import detect_contacts
+
+    fps = 30.0
+    t = np.arange(0, 6.0, 1 / fps)
+    rng = np.random.default_rng(5)
+    speed = rng.uniform(0.0, 0.06, len(t))
+    walking = t >= 1.5
+    phase = np.mod(t - 1.5, 1.0)
+    swing = walking & (phase >= 0.6)
+    speed[swing] = np.sin(np.pi * (phase[swing] - 0.6) / 0.4)
+    contact, intervals = detect_contacts({"centroid": speed}, t)
+    assert contact[t < 1.5].all()
+    assert intervals[0][0] == t[0] and not intervals[0][4]  # seen from the first frame: strike unseen
+    assert intervals[0][1] == pytest.approx(2.1, abs=0.05)  # first foot off at the first swing
+    # without the floor the still foot leaves contact somewhere in the first second
+    contact_old, _ = detect_contacts({"centroid": speed}, t, min_peak_fraction=0.0)
+    assert not contact_old[t < 1.0].all()
+    # walking itself is read the same either way
+    assert (contact[t > 2.5] == contact_old[t > 2.5]).all()

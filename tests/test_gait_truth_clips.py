@@ -15,6 +15,7 @@ import pandas as pd
 import pytest
 
 from lean_video.gait import analyse_keypoints
+from tools.eval_accuracy import steady_start_s
 
 try:
     from tests.gait_walker import match_events, phases_found_in_place
@@ -93,7 +94,7 @@ def test_event_timing(clip, request):
     med_ms, max_s = 33, 3 / fps
     for event, key in (("foot_strike", "foot_strike_s"), ("foot_off", "foot_off_s")):
         truth = pd.DataFrame([(t, side, event) for side in ("left", "right")
-                              for t in d["events"][key][side] if 0.1 < t < t_end - 0.1],
+                              for t in d["events"][key][side] if max(0.1, steady_start_s(d)) < t < t_end - 0.1],
                              columns=["time_s", "side", "event"])
         err, missed = match_events(r.events[r.events["event"] == event], truth, max_s=0.2)
         assert missed <= 1
@@ -125,7 +126,7 @@ def test_phases_and_angles(clip, request):
     d, r = clip
     ss = pd.DataFrame(d["single_support"])
     t_end = d["per_frame"]["time_s"][-1]
-    ss = ss[ss["complete"] & (ss["start_s"] > 0.1) & (ss["end_s"] < t_end - 0.1)]
+    ss = ss[ss["complete"] & (ss["start_s"] > max(0.1, steady_start_s(d))) & (ss["end_s"] < t_end - 0.1)]
     assert phases_found_in_place(r.strides, ss) >= len(ss) - 1
     for side in ("left", "right"):
         s, t = r.summary["sides"][side], ss[ss["stance_side"] == side]

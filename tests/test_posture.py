@@ -57,3 +57,40 @@ def test_parameters_validated():
     frames, kp = _tables(1.5)
     with pytest.raises(LeanVideoError, match="must be positive"):
         standing_posture(frames, kp, min_still_s=0)
+
+
+def _jitter_and_late_contact(frames, kp, *, jitter_px: float, late_s: float, seed: int = 3):
+    """Hip points jittering from frame to frame, and both feet seen in contact only from ``late_s``."""
+    rng = np.random.default_rng(seed)
+    kp = kp.copy()
+    hips = kp["landmark"].isin(["left_hip", "right_hip"])
+    kp.loc[hips, "x_px"] += rng.uniform(-jitter_px, jitter_px, hips.sum())
+    frames = frames.copy()
+    early = frames["time_s"] < late_s
+    frames.loc[early, "left_contact"] = False
+    return frames, kp
+
+
+def test_hip_jitter_of_a_far_client_still_counts_as_standing():
+    # +-1.5 px frame to frame on a client 500 px tall: as a frame-to-frame speed that is up
+    # to 90 px/s, 0.18 body heights per second (over the 0.05 limit); the speed over 0.3 s
+    # stays near 10 px/s, so the stretch is still found.
+    frames, kp = _tables(1.5)
+    frames, kp = _jitter_and_late_contact(frames, kp, jitter_px=1.5, late_s=0.0)
+    out = standing_posture(frames, kp)
+    assert out is not None and out["duration_s"] == pytest.approx(1.4, abs=0.1)
+
+
+def test_still_stretch_may_begin_a_little_after_the_first_frame():
+    # A foot in contact from the first frame has no strike to start its contact, so the
+    # first few frames can miss it: a stretch that begins within MAX_START_S still opens
+    # the clip, one that begins later does not.
+    from lean_video.posture import MAX_START_S
+
+    frames, kp = _tables(1.8)
+    late, _ = _jitter_and_late_contact(frames, kp, jitter_px=0.0, late_s=MAX_START_S - 0.1)
+    out = standing_posture(late, kp)
+    assert out is not None and out["start_s"] == pytest.approx(MAX_START_S - 0.1, abs=0.04)
+    assert out["lean_deg"] == pytest.approx(3.0)
+    later, _ = _jitter_and_late_contact(frames, kp, jitter_px=0.0, late_s=MAX_START_S + 0.1)
+    assert standing_posture(later, kp) is None

@@ -35,15 +35,32 @@ def truth_sides(truth: dict) -> dict:
     return out
 
 
+def steady_start_s(truth: dict) -> float:
+    """Clip time from which the walk is steady: 0, or one stride after a standing start.
+
+    A client who stands before walking reaches a steady gait only after the
+    first stride or two (gait initiation; Brenière & Do 1986, J Biomech
+    19:1035-1040, from memory); the renderer even starts it abruptly, in one
+    frame. So phases and events of that first stride are not counted.
+    """
+    if "standing" not in truth:
+        return 0.0
+    return float(truth["standing"]["end_s"]) + 120.0 / float(truth["walk"]["cadence_steps_min"])
+
+
 def event_errors_ms(events: pd.DataFrame, truth: dict, *, max_ms: float = 200.0) -> dict:
-    """Signed timing error (found minus true, ms) of each true event matched to the nearest found one."""
+    """Signed timing error (found minus true, ms) of each true event matched to the nearest found one.
+
+    Events of the first stride after a standing start (gait initiation) are not counted.
+    """
     out = {}
+    begin = steady_start_s(truth)
     for kind, key in (("foot_strike", "foot_strike_s"), ("foot_off", "foot_off_s")):
         errs = []
         for side in SIDES:
             found = events[(events["side"] == side) & (events["event"] == kind)]["time_s"].to_numpy()
             for t in truth["events"][key][side]:
-                if len(found):
+                if len(found) and t >= begin:
                     d = found[np.argmin(np.abs(found - t))] - t
                     if abs(d) * 1000 <= max_ms:
                         errs.append(d * 1000)
@@ -54,7 +71,9 @@ def event_errors_ms(events: pd.DataFrame, truth: dict, *, max_ms: float = 200.0)
 def phase_match(strides: pd.DataFrame, truth: dict) -> dict:
     """Found vs true single-support phases (complete, away from the clip ends), matched by overlap."""
     duration = truth["duration_s"]
-    true_w = [w for w in truth["single_support"] if w["complete"] and w["start_s"] > 0.4 and w["end_s"] < duration - 0.4]
+    begin = max(steady_start_s(truth), 0.4)
+    true_w = [w for w in truth["single_support"] if w["complete"] and w["start_s"] > begin
+              and w["end_s"] < duration - 0.4]
     matched, lean_err, drop_err, coverage = 0, [], [], []
     for w in true_w:
         same = strides[strides["stance_side"] == w["stance_side"]]
@@ -137,6 +156,23 @@ def evaluate(name: str, *, mirror: bool = True, video: Path | None = None, pictu
         row[f"{kind}_max_ms"] = float(np.max(np.abs(errs))) if errs else None
         row[f"{kind}_bias_ms"] = float(np.median(errs)) if errs else None
     row["n_frames"] = len(analysis.frames)
+    st = s.get("standing")
+    row["standing_found"] = st is not None
+    row["standing_s"] = st["duration_s"] if st else None
+    row["standing_lean_err"] = row["standing_true_deg"] = None
+    if "standing" in truth:
+        # standing lean against the truth's image-plane lean (as lean_frame_bias_deg);
+        # per side, the walking lean relative to standing against the same from the
+        # truth's 3-D lean (as the per-side truth)
+        still = np.asarray(truth["per_frame"]["time_s"]) < truth["standing"]["end_s"]
+        true_2d = float(np.mean(np.asarray(truth["per_frame"]["lean_2d_deg"])[still]))
+        true_3d = float(np.mean(np.asarray(truth["per_frame"]["lean_3d_deg"])[still]))
+        row["standing_true_deg"] = true_2d
+        if st:
+            row["standing_lean_err"] = st["lean_deg"] - true_2d
+            for side, sg in (("left", -1.0), ("right", 1.0)):
+                if row[f"{side}_lean_err"] is not None:
+                    row[f"{side}_rel_standing_err"] = row[f"{side}_lean_err"] - sg * (st["lean_deg"] - true_3d)
     if pictures:
         row["pictures"] = sorted(pipeline.peak_pictures(analysis))
     return row

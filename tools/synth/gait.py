@@ -94,6 +94,7 @@ class WalkParams:
     shirt_rgb: tuple = (0.16, 0.33, 0.62)
     trousers_rgb: tuple = (0.22, 0.27, 0.40)
     pelvis_marker_rgb: tuple | None = None  # skin markers over the iliac spines (None: none)
+    stand_s: float = 0.0  # standing still (held in the first double support) before the walk
 
     @property
     def toward(self) -> bool:
@@ -106,6 +107,8 @@ class WalkParams:
     def to_dict(self) -> dict:
         d = asdict(self)
         d["shirt_rgb"], d["trousers_rgb"] = list(self.shirt_rgb), list(self.trousers_rgb)
+        if not self.stand_s:
+            del d["stand_s"]  # older manifests and truth files stay as they were
         if self.pelvis_marker_rgb is None:
             del d["pelvis_marker_rgb"]  # older manifests and truth files stay as they were
         else:
@@ -216,6 +219,23 @@ class Walker:
         if t < to[k]:
             return k, sf * (t - hs[k]) / (to[k] - hs[k])
         return k, sf + (1 - sf) * (t - to[k]) / (hs[k + 1] - to[k])
+
+    def first_double_support_mid(self, step_s: float = 0.001) -> float:
+        """Walk time in the middle of the first double support that begins after t = 0.
+
+        A standing start holds the pose of this instant: both feet flat on the
+        floor, the trunk at its habitual lean (``lean_offset_deg``), the pelvis level.
+        """
+        both = lambda u: self.in_contact("left", u) and self.in_contact("right", u)  # noqa: E731
+        t = 0.0
+        while both(t):  # one already under way at t = 0 is not a whole double support
+            t += step_s
+        while not both(t):
+            t += step_s
+        a = t
+        while self.in_contact("left", t) and self.in_contact("right", t):
+            t += step_s
+        return 0.5 * (a + t)
 
     def single_support(self, t):
         """('right'|'left', start, end) if t is inside single support, else None."""

@@ -375,6 +375,36 @@ def default_manifest() -> dict:
         _, walk, cam, room, video, _ = by_name[base]
         truth.append((name, replace(walk, **change), cam, room, video,
                       f"later session of {base}: same room, light, camera and clothes; {what}"))
+    # The same five set-ups once more, the client first standing still for 1.5 s facing
+    # the camera (walking away: back to it) with a habitual lean, then walking: whether
+    # the pose model's lean offset is the same standing as walking, so that a lean
+    # measured relative to the client's own standing posture is free of it (2026-12-04
+    # evening; measured once as rendered). Plus one in even light as a control.
+    stand_ups = [
+        ("truth_stand_side_light", "truth_strong_lean_24fps",
+         dict(seed=81, stand_s=1.5, speed_m_s=0.75, lean_offset_deg=1.5, lean_right_stance_deg=8,
+              lean_left_stance_deg=2, pelvic_drop_right_stance_deg=3)),
+        ("truth_stand_other_light", "truth_strong_lean_other_light",
+         dict(seed=82, stand_s=1.5, speed_m_s=0.75, lean_offset_deg=-1.0, lean_right_stance_deg=6,
+              lean_left_stance_deg=4, pelvic_drop_right_stance_deg=2)),
+        ("truth_stand_markers_contralateral", "truth_markers_contralateral",
+         dict(seed=83, stand_s=1.5, speed_m_s=0.75, lean_offset_deg=1.0, lean_left_stance_deg=5,
+              pelvic_drop_right_stance_deg=5)),
+        ("truth_stand_away_lean_left", "truth_away_strong_lean_left",
+         dict(seed=84, stand_s=1.5, speed_m_s=0.85, lean_offset_deg=-1.5, lean_left_stance_deg=7,
+              lean_right_stance_deg=2, pelvic_drop_left_stance_deg=3)),
+        ("truth_stand_offaxis", "truth_heldout3_offaxis_habitual",
+         dict(seed=85, stand_s=1.5, speed_m_s=0.8, lean_left_stance_deg=5, pelvic_drop_left_stance_deg=3)),
+        ("truth_stand_even_light", "truth_no_lean",
+         dict(seed=86, stand_s=1.5, speed_m_s=0.9, lean_offset_deg=2.0, lean_right_stance_deg=6,
+              lean_left_stance_deg=1, pelvic_drop_right_stance_deg=4)),
+    ]
+    for name, base, change in stand_ups:
+        _, walk, cam, room, video, _ = by_name[base]
+        walk = replace(walk, **change)
+        truth.append((name, walk, cam, room, video,
+                      f"set-up of {base}; client standing still for {walk.stand_s} s with a habitual lean of "
+                      f"{walk.lean_offset_deg} deg, then walking"))
     for name, walk, cam, room, video, desc in truth:
         clips.append(_entry(name, walk, cam, room, video, kind="truth", description=desc))
     return {"schema_version": 1, "generator": "python -m tools.synth.render_all", "clips": clips}

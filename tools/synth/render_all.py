@@ -66,18 +66,23 @@ def simulate(walk: WalkParams, cam: CameraParams, room: RoomParams, fps: float,
     body = load_body(walk.height_m, walk.width_scale, walk.shirt_rgb, walk.trousers_rgb,
                      walk.pelvis_marker_rgb)
     walker = Walker(walk, body)
-    n = int(round(walk.duration_s * fps))
+    # With a standing start the client holds the pose of the walk's first double
+    # support for stand_s seconds, then walks on from it: clip time = walk time + shift.
+    t_hold = walker.first_double_support_mid() if walk.stand_s > 0 else 0.0
+    shift = walk.stand_s - t_hold
+    n = int(round((walk.duration_s + walk.stand_s) * fps))
     times = np.arange(n) / fps
     rend = Renderer(cam, room, body.faces, body.colours) if render else None
     k, r, c = camera_matrices(cam)
     frames, rows = [], []
     for t in times:
-        rots, jw, info = walker.pose(float(t))
+        tw = max(float(t) - shift, t_hold)
+        rots, jw, info = walker.pose(tw)
         ft = frame_truth(walker, rots, jw, k, r, c)
         ft["contact"] = info["contact"]
         ft["lean_target_deg"] = info["lean_target_deg"]
         ft["obliquity_target_deg"] = info["obliquity_target_deg"]
-        ss = walker.single_support(float(t))
+        ss = walker.single_support(tw)
         ft["single_support"] = ss[0] if ss else None
         rows.append(ft)
         if rend:
@@ -90,9 +95,12 @@ def simulate(walk: WalkParams, cam: CameraParams, room: RoomParams, fps: float,
         rend.close()
     dur = n / fps
     ev = walker.ev
+    start = walk.stand_s  # no event while standing: the walk's own events before t_hold are dropped
     events = {
-        "foot_strike_s": {s: [float(x) for x in ev.strike[s] if 0 <= x < dur] for s in ("left", "right")},
-        "foot_off_s": {s: [float(x) for x in ev.off[s] if 0 <= x < dur] for s in ("left", "right")},
+        "foot_strike_s": {s: [float(x + shift) for x in ev.strike[s] if start <= x + shift < dur]
+                          for s in ("left", "right")},
+        "foot_off_s": {s: [float(x + shift) for x in ev.off[s] if start <= x + shift < dur]
+                       for s in ("left", "right")},
     }
     windows = []
     for side, other in (("right", "left"), ("left", "right")):
@@ -100,12 +108,12 @@ def simulate(walk: WalkParams, cam: CameraParams, room: RoomParams, fps: float,
             nxt = ev.strike[other][ev.strike[other] > a]
             if not len(nxt):
                 continue
-            bnd = nxt[0]
-            if bnd <= 0 or a >= dur:
+            a, bnd = float(a + shift), float(nxt[0] + shift)
+            if bnd <= start or a >= dur:
                 continue
-            k_st = int(np.searchsorted(ev.strike[side], a, side="right") - 1)
+            k_st = int(np.searchsorted(ev.strike[side], a - shift, side="right") - 1)
             sg = 1.0 if side == "right" else -1.0
-            windows.append((side, float(a), float(bnd), bool(a >= 0 and bnd <= dur),
+            windows.append((side, a, bnd, bool(a >= start and bnd <= dur),
                             float(ev.lean[side][k_st] + sg * walk.lean_offset_deg),
                             float(ev.drop[side][k_st])))
     windows.sort(key=lambda w: w[1])
@@ -143,6 +151,13 @@ def simulate(walk: WalkParams, cam: CameraParams, room: RoomParams, fps: float,
         "single_support": phase_summary(times, lean, obl, windows),
         "per_frame": per_frame,
     }
+    if walk.stand_s > 0:
+        still = times < walk.stand_s
+        truth["standing"] = {"start_s": 0.0, "end_s": float(walk.stand_s),
+                             "lean_3d_deg": float(np.mean(np.asarray(lean)[still])),
+                             "lean_2d_deg": float(np.mean(np.asarray(per_frame["lean_2d_deg"])[still])),
+                             "pelvic_obliquity_2d_deg": float(np.mean(
+                                 np.asarray(per_frame["pelvic_obliquity_2d_deg"])[still]))}
     return frames, truth
 
 
