@@ -442,6 +442,54 @@ def history_rows(
     return out
 
 
+#: Largest difference in camera roll between two visits still taken for the same camera place
+#: (engineering choice, no source: the roll is measured within about 0.25 deg on test clips).
+SAME_ROLL_DEG = 1.0
+
+
+def filming_differences(sessions: Sequence[Mapping]) -> list[dict[str, Any]]:
+    """How each session's filming differs from the previous one's, as far as the summaries tell.
+
+    The history report's filming allowance for lean assumes visits filmed the
+    same way; light and clothes cannot be compared from the summaries, but a
+    change of walking direction, frame size, frame rate or camera tilt shows a
+    different set-up.
+
+    Parameters
+    ----------
+    sessions : list of dict
+        As :func:`render_history_report` takes them, oldest first, each with ``summary``.
+
+    Returns
+    -------
+    list of dict
+        ``{"index": i, "what": [text, ...]}`` for each session ``i`` >= 1 whose
+        filming differs from session ``i - 1``; empty when none does.
+    """
+    def sig(s: Mapping) -> dict:
+        summ = s.get("summary") or {}
+        clip = summ.get("clip") or {}
+        roll = summ.get("camera_roll_deg") if summ.get("camera_roll_source") == "scene" else None
+        return {"direction": summ.get("direction"), "size": (clip.get("width"), clip.get("height")),
+                "fps": clip.get("fps"), "roll": roll}
+
+    out = []
+    for i in range(1, len(sessions)):
+        a, b = sig(sessions[i - 1]), sig(sessions[i])
+        what = []
+        if a["direction"] and b["direction"] and a["direction"] != b["direction"]:
+            what.append(f"walking {a['direction']} the camera, then {b['direction']}")
+        if None not in a["size"] + b["size"] and a["size"] != b["size"]:
+            what.append(f"picture {a['size'][0]}x{a['size'][1]}, then {b['size'][0]}x{b['size'][1]}")
+        if a["fps"] and b["fps"] and abs(a["fps"] - b["fps"]) > 0.1 * max(a["fps"], b["fps"]):
+            what.append(f"{a['fps']:.0f} frames per second, then {b['fps']:.0f}")
+        if a["roll"] is not None and b["roll"] is not None and abs(a["roll"] - b["roll"]) > SAME_ROLL_DEG:
+            what.append(f"camera tilted {a['roll']:+.1f}°, then {b['roll']:+.1f}° (placed differently)")
+        if what:
+            out.append({"index": i, "what": what})
+    return out
+
+
 def render_history_report(
     client: Mapping, sessions: Sequence[Mapping], *, clinic_name: str | None = None,
     generated_utc: str | None = None,
@@ -486,6 +534,8 @@ def render_history_report(
            "shared_params": shared, "show_drop": show_drop,
            "n_earlier": sum(int(s.get("n_earlier_analyses") or 0) for s in sessions),
            "n_sessions": len(sessions), "lean_change": LEAN_CHANGE_METHOD,
+           "filming_diffs": [{"label": prov_labels[d["index"]], "prev": prov_labels[d["index"] - 1],
+                              "what": d["what"]} for d in filming_differences(sessions)],
            "lean_allowance": LEAN_CHANGE_METHOD["same_setup_error_max_deg"]}
     return _env().get_template("history.html.j2").render(**ctx)
 

@@ -24,11 +24,11 @@ import pytest
 
 from lean_video.errors import LeanVideoError
 from lean_video.report import (
-    clean_text, history_rows, mdc95, mean_ci95, pooled_sd, render_history_report, render_session_report,
-    write_report_atomic,
+    clean_text, filming_differences, history_rows, mdc95, mean_ci95, pooled_sd, render_history_report,
+    render_session_report, write_report_atomic,
 )
 from lean_video.report_pictures import annotate_peak_frame, blur_face, body_crop, head_box, lever_arm_svg
-from lean_video.stated_accuracy import LEAN_CHANGE_METHOD
+from lean_video.stated_accuracy import LEAN_CHANGE_METHOD, STANDING_METHOD
 
 ARTIFACTS = Path(__file__).parent / "artifacts"
 HOSTILE_NAME = "<script>alert(1)</script>"
@@ -311,6 +311,35 @@ def test_history_report_states_the_filming_allowance():
                    "film every visit in the same place, light and camera position"):
         assert number in text
     assert parse(html).tables["history-left"][1][4] == "MDC95 + filming"
+
+
+def test_filming_differences_between_visits():
+    sessions = make_sessions()
+    assert filming_differences(sessions) == []  # all three filmed alike
+    html = render_history_report({"id": "HP-014"}, sessions)
+    assert 'id="filming-differences"' not in html
+    s1 = dict(sessions[1]["summary"])
+    s1.update(direction="away", camera_roll_source="scene", camera_roll_deg=-0.6,
+              clip={**s1["clip"], "width": 720, "height": 1280, "fps": 60.0})
+    s0 = dict(sessions[0]["summary"], camera_roll_source="scene", camera_roll_deg=1.2)
+    sessions[0]["summary"], sessions[1]["summary"] = s0, s1
+    diffs = filming_differences(sessions)
+    # visit 2 differs from visit 1 in all four; visit 3 (as visit 1) differs from visit 2 again,
+    # but for the roll, which visit 3 did not measure from the scene
+    assert [d["index"] for d in diffs] == [1, 2]
+    assert diffs[0]["what"] == ["walking toward the camera, then away", "picture 1080x1920, then 720x1280",
+                                "30 frames per second, then 60", "camera tilted +1.2°, then -0.6° (placed differently)"]
+    assert len(diffs[1]["what"]) == 3
+    # a roll within SAME_ROLL_DEG is the same camera place
+    sessions[1]["summary"] = dict(s0, camera_roll_deg=1.2 - 0.9)
+    assert filming_differences(sessions[:2]) == []
+    sessions[1]["summary"] = s1
+    html = render_history_report({"id": "HP-014"}, sessions)
+    box = re.search(r'<div class="caution" id="filming-differences">(.*?)</div>', html, re.S)
+    assert box is not None
+    text = " ".join(re.sub(r"<[^>]+>", " ", box.group(1)).split())
+    assert "2026-10-01 against 2026-09-01: walking toward the camera, then away" in text
+    assert f"up to {LEAN_CHANGE_METHOD['other_setup_error_max_deg']:.1f}°" in text
 
 # --------------------------------------------------------------------------- session report
 def test_session_report_has_no_external_reference(session_html):
@@ -653,6 +682,13 @@ def test_standing_pelvic_obliquity_only_from_a_validated_method():
         standing = re.search(r'<p id="standing">(.*?)</p>', html, re.S).group(1)
         assert "+1.2°" in standing
         assert ("pelvic obliquity -2.4°" in standing) is validated
+    # how far the standing lean was checked is said beside it when the summary carries it
+    assert "Checked on" not in standing
+    summary["standing_method"] = STANDING_METHOD
+    html = render_session_report(summary, make_frames(strides), strides, events=make_events(strides))
+    standing = " ".join(re.search(r'<p id="standing">(.*?)</p>', html, re.S).group(1).split())
+    assert f"within {STANDING_METHOD['lean_error_max_deg']:.2f}° of the truth" in standing
+    assert "6 rendered clips" in standing
 
 
 def test_body_crop_keeps_every_keypoint():
