@@ -82,7 +82,8 @@ def standing_posture(frames: pd.DataFrame, keypoints: pd.DataFrame, *,
     # strike to start it, and the image speed there is a one-sided difference.
     if t[first] - t[0] > MAX_START_S:
         return None
-    end = first + (int(np.argmin(still[first:])) if not still[first:].all() else len(still) - first)
+    rest = still[first:]
+    end = first + (int(np.argmin(rest)) if not rest.all() else len(rest))
     if t[end - 1] - t[first] < min_still_s:
         return None
     part = frames.iloc[first:end]

@@ -445,6 +445,9 @@ def history_rows(
 #: Largest difference in camera roll between two visits still taken for the same camera place
 #: (engineering choice, no source: the roll is measured within about 0.25 deg on test clips).
 SAME_ROLL_DEG = 1.0
+#: Largest relative difference in frame rate still taken for the same recording setting (engineering
+#: choice, no source: phones record at 24, 25, 30 or 60 fps, and a variable rate wanders a few percent).
+SAME_FPS_FRACTION = 0.1
 
 
 def filming_differences(sessions: Sequence[Mapping]) -> list[dict[str, Any]]:
@@ -481,7 +484,7 @@ def filming_differences(sessions: Sequence[Mapping]) -> list[dict[str, Any]]:
             what.append(f"walking {a['direction']} the camera, then {b['direction']}")
         if None not in a["size"] + b["size"] and a["size"] != b["size"]:
             what.append(f"picture {a['size'][0]}x{a['size'][1]}, then {b['size'][0]}x{b['size'][1]}")
-        if a["fps"] and b["fps"] and abs(a["fps"] - b["fps"]) > 0.1 * max(a["fps"], b["fps"]):
+        if a["fps"] and b["fps"] and abs(a["fps"] - b["fps"]) > SAME_FPS_FRACTION * max(a["fps"], b["fps"]):
             what.append(f"{a['fps']:.0f} frames per second, then {b['fps']:.0f}")
         if a["roll"] is not None and b["roll"] is not None and abs(a["roll"] - b["roll"]) > SAME_ROLL_DEG:
             what.append(f"camera tilted {a['roll']:+.1f}°, then {b['roll']:+.1f}° (placed differently)")

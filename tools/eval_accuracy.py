@@ -164,9 +164,7 @@ def evaluate(name: str, *, mirror: bool = True, video: Path | None = None, pictu
         # standing lean against the truth's image-plane lean (as lean_frame_bias_deg);
         # per side, the walking lean relative to standing against the same from the
         # truth's 3-D lean (as the per-side truth)
-        still = np.asarray(truth["per_frame"]["time_s"]) < truth["standing"]["end_s"]
-        true_2d = float(np.mean(np.asarray(truth["per_frame"]["lean_2d_deg"])[still]))
-        true_3d = float(np.mean(np.asarray(truth["per_frame"]["lean_3d_deg"])[still]))
+        true_2d, true_3d = truth["standing"]["lean_2d_deg"], truth["standing"]["lean_3d_deg"]
         row["standing_true_deg"] = true_2d
         if st:
             row["standing_lean_err"] = st["lean_deg"] - true_2d

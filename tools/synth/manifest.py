@@ -353,6 +353,13 @@ def default_manifest() -> dict:
     # change between two sessions filmed the same way (2026-12-04 evening; measured
     # once as rendered).
     by_name = {t[0]: t for t in truth}
+
+    def same_setup(name, base, change, desc):
+        """A clip in the room, light, camera place and clothes of ``base``, its walk changed by ``change``."""
+        _, walk, cam, room, video, _ = by_name[base]
+        walk = replace(walk, **change)
+        return name, walk, cam, room, video, desc(walk)
+
     follow_ups = [
         ("truth_followup_side_light", "truth_strong_lean_24fps",
          dict(seed=71, speed_m_s=0.8, cadence_steps_min=96, lean_right_stance_deg=6, lean_left_stance_deg=2,
@@ -371,10 +378,9 @@ def default_manifest() -> dict:
          dict(seed=75, speed_m_s=0.85, cadence_steps_min=96, lean_left_stance_deg=3, pelvic_drop_left_stance_deg=2),
          "lean over the left leg down from 6 to 3 deg, habitual 2 deg lean kept"),
     ]
-    for name, base, change, what in follow_ups:
-        _, walk, cam, room, video, _ = by_name[base]
-        truth.append((name, replace(walk, **change), cam, room, video,
-                      f"later session of {base}: same room, light, camera and clothes; {what}"))
+    truth += [same_setup(name, base, change,
+                         lambda _, b=base, w=what: f"later session of {b}: same room, light, camera and clothes; {w}")
+              for name, base, change, what in follow_ups]
     # The same five set-ups once more, the client first standing still for 1.5 s facing
     # the camera (walking away: back to it) with a habitual lean, then walking: whether
     # the pose model's lean offset is the same standing as walking, so that a lean
@@ -399,12 +405,10 @@ def default_manifest() -> dict:
          dict(seed=86, stand_s=1.5, speed_m_s=0.9, lean_offset_deg=2.0, lean_right_stance_deg=6,
               lean_left_stance_deg=1, pelvic_drop_right_stance_deg=4)),
     ]
-    for name, base, change in stand_ups:
-        _, walk, cam, room, video, _ = by_name[base]
-        walk = replace(walk, **change)
-        truth.append((name, walk, cam, room, video,
-                      f"set-up of {base}; client standing still for {walk.stand_s} s with a habitual lean of "
-                      f"{walk.lean_offset_deg} deg, then walking"))
+    truth += [same_setup(name, base, change,
+                         lambda w, b=base: f"set-up of {b}; client standing still for {w.stand_s} s with a habitual "
+                                           f"lean of {w.lean_offset_deg} deg, then walking")
+              for name, base, change in stand_ups]
     for name, walk, cam, room, video, desc in truth:
         clips.append(_entry(name, walk, cam, room, video, kind="truth", description=desc))
     return {"schema_version": 1, "generator": "python -m tools.synth.render_all", "clips": clips}
