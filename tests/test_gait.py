@@ -537,6 +537,44 @@ def test_foot_off_toward_at_peak_upward_velocity_of_toe():
     assert foot_centre_events(track, t, "left", iv, direction="away")[0][1] == 1.1
 
 
+def test_foot_off_toward_searched_after_the_other_foots_strike():
+    # Known answer: the toe's upward velocity peaks at 1.3 s, but the
+    # position-based foot off is 0.2 s early (the model's toe left with the
+    # heel). The search window then ends at 1.25 s, before the peak; the other
+    # foot's strike at 1.2 s, inside this contact, says foot off comes after
+    # it (double support), so the window reaches off_after_strike_s past it.
+    t = np.arange(0, 2, 1 / 30)
+    t_peak = 1.3
+    y = 800 - 20 * _gauss_cdf((t - t_peak) / 0.05)
+    track = _foot(t, y - 10, y + 10)
+    early = [(0.4, 1.1, 12, 33, True, True)]
+    other = [(1.2, 1.8, 36, 54, True, True)]
+    out = foot_centre_events(track, t, "left", early, direction="toward", other_intervals=other)
+    assert out[0][1] == pytest.approx(t_peak, abs=0.004)
+    # the same strike 0.1 s too early to bound it: window ends 0.1 s short, no turning point, kept
+    out = foot_centre_events(track, t, "left", early, direction="toward", other_intervals=other,
+                             off_after_strike_s=0.05)
+    assert out[0][1] == 1.1
+    # without the other foot's strike nothing says the peak is still to come
+    assert foot_centre_events(track, t, "left", early, direction="toward")[0][1] == 1.1
+
+
+def test_foot_off_toward_takes_the_toes_own_peak_not_the_windows_edge():
+    # Known answer: a faster rise of the toe before the window (the model's
+    # toe lifting with the heel in terminal stance, velocity peak at 0.9 s)
+    # leaves the window's first sample (0.95 s) higher than the toe-off peak
+    # at 1.15 s; the toe-off peak is the largest turning point inside.
+    t = np.arange(0, 2, 1 / 30)
+    y = 800 - 40 * _gauss_cdf((t - 0.9) / 0.06) - 20 * _gauss_cdf((t - 1.15) / 0.05)
+    track = _foot(t, y - 10, y + 10)
+    v = -np.gradient(y, t)
+    lo = 1.05 - 0.1
+    assert v[t >= lo][0] > v[np.argmin(np.abs(t - 1.15))]  # the edge is higher
+    out = foot_centre_events(track, t, "left", [(0.4, 1.1, 12, 33, True, True)], direction="toward",
+                             other_intervals=[(1.05, 1.7, 32, 51, True, True)])
+    assert out[0][1] == pytest.approx(1.15, abs=0.006)
+
+
 def test_foot_strike_away_when_heel_halfway_down_from_highest_image_point():
     # Known answer: the heel rises in the image while it recedes, turns at
     # 1.207 s, then drops 4 px to its footprint at 60 px/s; foot strike is
@@ -776,7 +814,9 @@ def test_one_truly_noisier_foot_keeps_its_own_tolerance():
     # One foot's points jittered by about 4 px (smoothed white noise): its
     # jitter is 4-7 times the other's, more than max_jitter_ratio, so each
     # foot keeps its own tolerance and the walk's equal sides stay equal
-    # (a shared level made a false symmetry index of up to 50 % here).
+    # (measured 3.9 %). A shared level makes a false symmetry index: 57 %
+    # here until the toe's foot off was searched past the other foot's strike
+    # (gait_frontal.foot_centre_events), which repairs part of it, 10 % since.
     from scipy.ndimage import gaussian_filter1d
 
     w = make_walk(direction="toward", noise_px=0.5, seed=1)
@@ -790,7 +830,7 @@ def test_one_truly_noisier_foot_keeps_its_own_tolerance():
     r = analyse_keypoints(kp, width=w.width, height=w.height)
     assert abs(r.summary["asymmetry"]["single_support_symmetry_index_pct"]) <= 10
     forced = analyse_keypoints(kp, width=w.width, height=w.height, max_jitter_ratio=100.0)
-    assert abs(forced.summary["asymmetry"]["single_support_symmetry_index_pct"]) > 20
+    assert abs(forced.summary["asymmetry"]["single_support_symmetry_index_pct"]) > 8
     assert r.summary["settings"]["shared_noise"] is True and r.summary["settings"]["max_jitter_ratio"] == 3.0
 
 
