@@ -48,11 +48,12 @@ def _velocity_peak(time_s, velocity, lo, hi, *, local=False):
     if len(sel) < 3:
         return None
     if local:
-        peaks, _ = find_peaks(velocity[sel])
-        peaks = peaks[velocity[sel][peaks] > 0]
+        v = velocity[sel]
+        peaks, _ = find_peaks(v)
+        peaks = peaks[v[peaks] > 0]
         if not len(peaks):
             return None
-        return _peak_time(time_s, velocity, sel[peaks[np.argmax(velocity[sel][peaks])]])
+        return _peak_time(time_s, velocity, sel[peaks[np.argmax(v[peaks])]])
     j = sel[np.argmax(velocity[sel])]
     if sel[0] < j < sel[-1] and velocity[j] > 0:
         return _peak_time(time_s, velocity, j)
