@@ -756,22 +756,36 @@ def test_event_order_option_is_recorded():
     assert off.summary["quality"]["n_events_reordered"] == 0
 
 
-def test_foot_off_away_at_peak_upward_velocity_of_heel():
+def test_foot_off_away_on_the_rise_of_the_heel_upward_velocity():
     # Known answer: the heel rises 25 px along a Gaussian-CDF profile with its
-    # fastest rise at t_peak; the position-based foot off (1.0 s) is early.
+    # fastest rise at t_peak (a Gaussian velocity of SD 0.05 s); the
+    # position-based foot off (1.0 s) is early. The velocity reaches 80 % of
+    # its peak sigma * sqrt(2 ln(1 / 0.8)) = 33.4 ms before it (Gaussian
+    # function, analytic), found by linear interpolation between 30 fps samples.
     t = np.arange(0, 2, 1 / 30)
-    t_peak = 1.113
-    heel_y = 800 - 25 * _gauss_cdf((t - t_peak) / 0.05)
+    t_peak, sigma = 1.113, 0.05
+    t_80 = t_peak - sigma * np.sqrt(2 * np.log(1 / 0.8))
+    heel_y = 800 - 25 * _gauss_cdf((t - t_peak) / sigma)
     track = _foot(t, heel_y, heel_y + 15)
     iv = [(0.3, 1.0, 9, 30, True, True)]
     out = foot_centre_events(track, t, "left", iv, direction="away")
-    assert out[0][1] == pytest.approx(t_peak, abs=0.004)
+    assert out[0][1] == pytest.approx(t_80, abs=0.004)
+    # at the whole peak (the rule before version 0.2.4)
+    assert foot_centre_events(track, t, "left", iv, direction="away", away_off_fraction=1.0)[0][1] == \
+        pytest.approx(t_peak, abs=0.004)
+    half = foot_centre_events(track, t, "left", iv, direction="away", away_off_fraction=0.5)[0][1]
+    # lower down the flank the sampled pulse (central differences over two
+    # frames widen it) runs a few ms ahead of the analytic one: 6.6 ms here
+    assert half == pytest.approx(t_peak - sigma * np.sqrt(2 * np.log(2)), abs=0.008)
     assert foot_centre_events(track, t, "left", iv, direction="away", away_off=False)[0][1] == 1.0
+    for bad in (0.0, 1.2, float("nan")):
+        with pytest.raises(LeanVideoError, match=r"away_off_fraction must lie in \(0, 1\]"):
+            foot_centre_events(track, t, "left", iv, direction="away", away_off_fraction=bad)
     # Body 1000 px tall: at the position-based foot off the heel is 0.3 px up,
     # far below 6 % of body height, so the toe is taken as the model's guess ...
     scale = np.full(len(t), 1000.0)
     out = foot_centre_events(track, t, "left", iv, direction="away", scale_px=scale)
-    assert out[0][1] == pytest.approx(t_peak, abs=0.004)
+    assert out[0][1] == pytest.approx(t_80, abs=0.004)
     # ... while with the heel already 80 px (8 %) up, the foot off is kept
     raised = _foot(t, np.where(t < 0.8, 800.0, 720.0) - 25 * _gauss_cdf((t - t_peak) / 0.05), heel_y + 15)
     kept = foot_centre_events(raised, t, "left", iv, direction="away", scale_px=scale)

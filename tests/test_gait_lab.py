@@ -78,11 +78,16 @@ def lab(request):
 #           max 101 ms while the toe's peak was searched only 0.07 s past the
 #           position-based foot off)
 #   away:   foot strike median -15 ms, max |e| 66 ms (18 of 19);
-#           foot off    median -21 ms, max |e| 41 ms (18 of 19)
+#           foot off    median -21 ms, max |e| 67 ms (19 of 19; 41 ms before
+#           version 0.2.4 took a re-timed foot off where the heel's upward
+#           speed reaches 80 % of its peak rather than at the peak: the one
+#           foot off re-timed here, its heel barely up, moved from -23 to
+#           -67 ms, because this marker heel's speed peaked before the toe
+#           left, unlike the pose model's heel, gait_frontal)
 # Unmatched events sit next to the partial first/last steps of a pass.
 # One frame is 33 ms. Bounds: measured plus up to half a frame.
 LIMITS_MS = {("toward", "foot_strike"): (40, 55), ("toward", "foot_off"): (20, 30),
-             ("away", "foot_strike"): (40, 85), ("away", "foot_off"): (40, 60)}
+             ("away", "foot_strike"): (40, 85), ("away", "foot_off"): (40, 85)}
 
 
 def test_event_timing_against_annotations(lab):
