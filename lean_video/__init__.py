@@ -9,7 +9,7 @@ No stage imports a later one. The library logs through :mod:`logging`; only
 """
 
 # Raise whenever results can change: every stored session, report and keypoint cache carries it.
-__version__ = "0.2.4"
+__version__ = "0.2.5"
 
 from lean_video.errors import LeanVideoError
 

@@ -314,10 +314,21 @@ def analyse_keypoints(
         intervals[side], n = untime_cut_strikes(intervals[side])
         n_cut += n
     if foot_centre_timing:
-        intervals = {side: foot_centre_events(
+        first = {side: foot_centre_events(
             fc_track, time_s, side, intervals[side], direction=direction,
             other_intervals=intervals[other], camera_roll_deg=camera_roll_deg, scale_px=scale)
             for side, other in (("left", "right"), ("right", "left"))}
+        if direction == "away":
+            # A foot off comes after the other foot's landing, and seen from behind the
+            # landings are the events re-timed well: a second pass anchors each foot
+            # off's search on them (other_strikes_s in foot_centre_events).
+            strikes = {side: [iv[0] for iv in first[side] if iv[4]] for side in SIDES}
+            first = {side: foot_centre_events(
+                fc_track, time_s, side, intervals[side], direction=direction,
+                other_intervals=intervals[other], camera_roll_deg=camera_roll_deg, scale_px=scale,
+                other_strikes_s=strikes[other])
+                for side, other in (("left", "right"), ("right", "left"))}
+        intervals = first
     n_reordered = 0
     if event_order:
         intervals["left"], intervals["right"], n_reordered = order_events(

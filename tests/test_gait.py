@@ -559,6 +559,30 @@ def test_foot_off_toward_searched_after_the_other_foots_strike():
     assert foot_centre_events(track, t, "left", early, direction="toward")[0][1] == 1.1
 
 
+def test_foot_off_away_searched_after_the_other_foots_strike():
+    # Known answer: the heel's upward velocity peaks at 1.43 s (Gaussian, SD
+    # 0.05 s: 80 % of it 33.4 ms before, at 1.397 s), but the position-based
+    # foot off is 0.33 s early, as in a slow walk seen from behind, so the
+    # search window (to 0.25 s past it) ends at 1.35 s, before the peak. The
+    # other foot's re-timed strike at 1.2 s, inside this contact, says foot
+    # off comes after it (double support), so the window reaches
+    # away_off_after_strike_s past it.
+    t = np.arange(0, 2.5, 1 / 30)
+    t_peak, sigma = 1.43, 0.05
+    heel_y = 800 - 25 * _gauss_cdf((t - t_peak) / sigma)
+    track = _foot(t, heel_y, heel_y + 15)
+    early = [(0.3, 1.1, 9, 33, True, True)]
+    assert foot_centre_events(track, t, "left", early, direction="away")[0][1] == 1.1
+    out = foot_centre_events(track, t, "left", early, direction="away", other_strikes_s=[1.2])
+    assert out[0][1] == pytest.approx(t_peak - sigma * np.sqrt(2 * np.log(1 / 0.8)), abs=0.004)
+    # a strike 0.35 s before the peak with a window reaching 0.25 s past it: still short, kept
+    out = foot_centre_events(track, t, "left", early, direction="away", other_strikes_s=[1.08],
+                             away_off_after_strike_s=0.25)
+    assert out[0][1] == 1.1
+    # a strike outside this contact (before its strike) does not count
+    assert foot_centre_events(track, t, "left", early, direction="away", other_strikes_s=[0.2])[0][1] == 1.1
+
+
 def test_foot_off_toward_takes_the_toes_own_peak_not_the_windows_edge():
     # Known answer: a faster rise of the toe before the window (the model's
     # toe lifting with the heel in terminal stance, velocity peak at 0.9 s)

@@ -183,7 +183,12 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--no-mirror", action="store_true", help="pose model without its mirror-image pass")
     parser.add_argument("--true-roll", action="store_true",
                         help="give the analysis the rendered camera roll instead of estimating it")
+    parser.add_argument("--clips-dir", type=Path, default=None,
+                        help="folder of rendered clips, their truth and manifest.json (default demo_clips/)")
     args = parser.parse_args(argv)
+    if args.clips_dir is not None:
+        global DEMO
+        DEMO = args.clips_dir
     manifest = json.loads((DEMO / "manifest.json").read_text())
     names = args.names or [c["name"] for c in manifest["clips"]]
     rows = [evaluate(n, mirror=not args.no_mirror, true_roll=args.true_roll) for n in names]
