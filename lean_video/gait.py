@@ -170,7 +170,9 @@ def analyse_keypoints(
     foot_centre_timing : bool, keyword-only
         Re-time the event the frontal view hides (toward: foot off, away: foot
         strike) from turning points of the foot's image motion, see
-        :func:`lean_video.gait_frontal.foot_centre_events`.
+        :func:`lean_video.gait_frontal.foot_centre_events` (walking away in two
+        passes: the foot offs are searched again after the other foot's
+        re-timed strikes).
     foot_centre_cutoff_hz : float, keyword-only
         Low-pass cut-off of the foot points used for that re-timing (higher
         than ``event_cutoff_hz`` so the turning points stay sharp; common

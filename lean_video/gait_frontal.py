@@ -360,7 +360,10 @@ def foot_centre_events(
         exact keypoints (heel well up, not re-timed) did not change. 0.8 was
         chosen on these 11 clips (three of them held out from the earlier
         method choices, none left unseen for this one; engineering choice,
-        no source). On the
+        no source). On three more walkers filmed from behind, rendered
+        afterwards for a held-out check (``tools/synth/heldout_away_checks.json``),
+        foot offs came out 5 and 7 ms off (36 and 38 ms at the peak) and, on
+        the slow one, 63 ms early either way (see ``other_strikes_s``). On the
         lab trial the one foot off re-timed (a marker heel, whose speed
         peaked before the toe left) moved from 23 to 67 ms early.
     scale_px : ndarray (n,), optional, keyword-only
