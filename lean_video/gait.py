@@ -316,20 +316,19 @@ def analyse_keypoints(
         intervals[side], n = untime_cut_strikes(intervals[side])
         n_cut += n
     if foot_centre_timing:
-        first = {side: foot_centre_events(
-            fc_track, time_s, side, intervals[side], direction=direction,
-            other_intervals=intervals[other], camera_roll_deg=camera_roll_deg, scale_px=scale)
-            for side, other in (("left", "right"), ("right", "left"))}
+        def retimed(strikes=None):
+            return {side: foot_centre_events(
+                fc_track, time_s, side, intervals[side], direction=direction,
+                other_intervals=intervals[other], camera_roll_deg=camera_roll_deg, scale_px=scale,
+                other_strikes_s=None if strikes is None else strikes[other])
+                for side, other in (("left", "right"), ("right", "left"))}
+
+        first = retimed()
         if direction == "away":
             # A foot off comes after the other foot's landing, and seen from behind the
             # landings are the events re-timed well: a second pass anchors each foot
             # off's search on them (other_strikes_s in foot_centre_events).
-            strikes = {side: [iv[0] for iv in first[side] if iv[4]] for side in SIDES}
-            first = {side: foot_centre_events(
-                fc_track, time_s, side, intervals[side], direction=direction,
-                other_intervals=intervals[other], camera_roll_deg=camera_roll_deg, scale_px=scale,
-                other_strikes_s=strikes[other])
-                for side, other in (("left", "right"), ("right", "left"))}
+            first = retimed({side: [iv[0] for iv in first[side] if iv[4]] for side in SIDES})
         intervals = first
     n_reordered = 0
     if event_order:

@@ -156,7 +156,7 @@ def foot_centre_events(
     away_off: bool = True,
     away_off_max_rise: float = 0.06, scale_px: np.ndarray | None = None,
     min_swing_fraction: float = 0.25, away_off_fraction: float = 0.8,
-    other_strikes_s=None, away_off_after_strike_s: float = 0.3,
+    other_strikes_s: list | None = None, away_off_after_strike_s: float = 0.3,
 ) -> list:
     """Re-time the event the frontal view hides, from turning points of the foot's image motion.
 
@@ -396,14 +396,14 @@ def foot_centre_events(
     v_heel = np.gradient(heel_up, time_s)
     stride_s = _median_stride_s(intervals, other_intervals)
     out = []
-    swing_from = []
+    swing_from = None  # start of the previous swing: its foot off, or the heel's peak it was timed from
     for t_s, t_o, i0, i1, s_seen, o_seen in intervals:
         anchor = None
         if s_seen and direction == "away":
             lo, hi = t_s - window_after_s, t_s + strike_window_s
             earliest = None
             if out and out[-1][5] and stride_s is not None:
-                earliest = swing_from[-1] + min_swing_fraction * stride_s
+                earliest = swing_from + min_swing_fraction * stride_s
             if earliest is not None and t_s < earliest:
                 # landed too soon after leaving: a mid-swing pause (see min_swing_fraction)
                 lo, hi = earliest, t_o
@@ -456,7 +456,7 @@ def foot_centre_events(
                 anchor = t_o
                 if away_off_fraction < 1.0:
                     t_o = max(_rising_crossing(time_s, v_heel, peak, away_off_fraction), t_s)
-        swing_from.append(anchor if anchor is not None else t_o)
+        swing_from = anchor if anchor is not None else t_o
         out.append((t_s, t_o, i0, i1, s_seen, o_seen))
     return out
 
